@@ -1,0 +1,190 @@
+//! `furrow check`: load everything, summarise what was read, list warnings.
+//!
+//! The summary is what a user needs to trust the inputs before a run: how
+//! much history, how many keywords and how much search volume per cluster,
+//! how much of it is not ranking or branded, and what the tool will not be
+//! able to do with this data.
+
+use crate::inputs::load::Inputs;
+use crate::text::{int, money, pct, table, Align};
+use serde::Serialize;
+
+/// One cluster's line in the summary.
+#[derive(Debug, Clone, Serialize)]
+pub struct ClusterSummary {
+    pub name: String,
+    pub keywords: usize,
+    pub volume: f64,
+    pub not_ranking_share: f64,
+    pub branded_share: f64,
+    pub tiers: usize,
+    pub cost_all_tiers: f64,
+}
+
+/// What `check` found.
+#[derive(Debug, Clone, Serialize)]
+pub struct Summary {
+    pub plan: String,
+    pub history_months: usize,
+    pub history_first: String,
+    pub history_last: String,
+    pub clicks_last_12: f64,
+    pub interest_months: Option<usize>,
+    pub queries: Option<usize>,
+    pub actual_months: Option<usize>,
+    pub keywords: usize,
+    pub total_volume: f64,
+    pub not_ranking_share: f64,
+    pub branded_share: f64,
+    pub forecast_first: String,
+    pub forecast_last: String,
+    pub currency: String,
+    pub budget: f64,
+    pub tail_level: f64,
+    pub max_tail_loss: Option<f64>,
+    pub clusters: Vec<ClusterSummary>,
+    pub warnings: Vec<String>,
+}
+
+/// Summarises loaded inputs.
+pub fn summarise(inp: &Inputs) -> Summary {
+    let kws = &inp.keywords.keywords;
+    let total_volume: f64 = kws.iter().map(|k| k.volume).sum();
+    let share = |f: &dyn Fn(&crate::inputs::keywords::Keyword) -> bool| {
+        if kws.is_empty() {
+            0.0
+        } else {
+            kws.iter().filter(|k| f(k)).count() as f64 / kws.len() as f64
+        }
+    };
+    let clicks = inp.history.get("clicks").unwrap_or(&[]);
+    let last12: f64 = clicks.iter().rev().take(12).sum();
+    Summary {
+        plan: inp.plan.name.clone(),
+        history_months: inp.history.len(),
+        history_first: inp
+            .history
+            .first()
+            .map(|m| m.to_string())
+            .unwrap_or_default(),
+        history_last: inp
+            .history
+            .last()
+            .map(|m| m.to_string())
+            .unwrap_or_default(),
+        clicks_last_12: last12,
+        interest_months: inp.interest.as_ref().map(|i| i.len()),
+        queries: inp.queries.as_ref().map(Vec::len),
+        actual_months: inp.actuals.as_ref().map(|a| a.len()),
+        keywords: kws.len(),
+        total_volume,
+        not_ranking_share: share(&|k| k.position.is_none()),
+        branded_share: share(&|k| k.branded),
+        forecast_first: inp.start.to_string(),
+        forecast_last: inp.start.plus(inp.plan.horizon as i32 - 1).to_string(),
+        currency: inp.plan.currency.clone(),
+        budget: inp.plan.budget,
+        tail_level: inp.plan.tail_level,
+        max_tail_loss: inp.plan.max_tail_loss,
+        clusters: cluster_summaries(inp),
+        warnings: inp.warnings.clone(),
+    }
+}
+
+fn cluster_summaries(inp: &Inputs) -> Vec<ClusterSummary> {
+    inp.clusters
+        .iter()
+        .map(|c| {
+            let ks: Vec<_> = inp.keywords.of_cluster(&c.name).collect();
+            let n = ks.len().max(1) as f64;
+            ClusterSummary {
+                name: c.name.clone(),
+                keywords: ks.len(),
+                volume: ks.iter().map(|k| k.volume).sum(),
+                not_ranking_share: ks.iter().filter(|k| k.position.is_none()).count() as f64 / n,
+                branded_share: ks.iter().filter(|k| k.branded).count() as f64 / n,
+                tiers: c.tiers.len(),
+                cost_all_tiers: c.tiers.iter().map(|t| t.cost).sum(),
+            }
+        })
+        .collect()
+}
+
+/// The summary as text for the terminal.
+pub fn render(s: &Summary) -> String {
+    let mut out = format!("Plan '{}': inputs read, no problems found.\n\n", s.plan);
+    out += &format!(
+        "History: {} months, {} to {}; clicks in the last 12 months: {}\n",
+        s.history_months,
+        s.history_first,
+        s.history_last,
+        int(s.clicks_last_12)
+    );
+    if let Some(n) = s.interest_months {
+        out += &format!("Search-interest index: {n} months\n");
+    }
+    if let Some(n) = s.queries {
+        out += &format!("Query export: {n} queries\n");
+    }
+    if let Some(n) = s.actual_months {
+        out += &format!("Actuals: {n} months observed\n");
+    }
+    out += &format!(
+        "Keywords: {} in the list, total monthly search volume {}; not ranking {}; branded {}\n",
+        int(s.keywords as f64),
+        int(s.total_volume),
+        pct(s.not_ranking_share, 1),
+        pct(s.branded_share, 1)
+    );
+    out += &format!("Forecast: {} to {}\n", s.forecast_first, s.forecast_last);
+    let limit = s
+        .max_tail_loss
+        .map(|v| money(v, &s.currency))
+        .unwrap_or_else(|| "none".into());
+    out += &format!(
+        "Budget: {}; tail level {:.2} (the worst {:.0} % of futures); largest tolerated average tail loss: {limit}\n\n",
+        money(s.budget, &s.currency),
+        s.tail_level,
+        (1.0 - s.tail_level) * 100.0
+    );
+    out += &cluster_table(s);
+    if !s.warnings.is_empty() {
+        out += "\nWarnings:\n";
+        for w in &s.warnings {
+            out += &format!("  - {w}\n");
+        }
+    }
+    out
+}
+
+fn cluster_table(s: &Summary) -> String {
+    let rows: Vec<Vec<String>> = s
+        .clusters
+        .iter()
+        .map(|c| {
+            vec![
+                c.name.clone(),
+                int(c.keywords as f64),
+                int(c.volume),
+                pct(c.not_ranking_share, 0),
+                pct(c.branded_share, 0),
+                c.tiers.to_string(),
+                money(c.cost_all_tiers, &s.currency),
+            ]
+        })
+        .collect();
+    use Align::*;
+    table(
+        &[
+            "cluster",
+            "keywords",
+            "monthly volume",
+            "not ranking",
+            "branded",
+            "tiers",
+            "cost of all tiers",
+        ],
+        &[Left, Right, Right, Right, Right, Right, Right],
+        &rows,
+    )
+}

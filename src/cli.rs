@@ -1,0 +1,160 @@
+//! Command-line parsing (clap) and dispatch: the first stage reads what the
+//! user typed; the library then resolves it against the plan (flags win over
+//! the plan, the plan over defaults) into typed work.
+
+use anyhow::{Context, Result};
+use clap::{Parser, Subcommand, ValueEnum};
+use furrow::plan::Overrides;
+use std::io::Write;
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+/// Forecast organic search, simulate keyword-cluster investments and
+/// allocate a budget under a tail-risk limit.
+#[derive(Debug, Parser)]
+#[command(name = "furrow", version, about, long_about = None)]
+pub struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+/// Output formats of the data commands.
+#[derive(Debug, Clone, Copy, ValueEnum, PartialEq, Eq)]
+pub enum Format {
+    Table,
+    Json,
+    Csv,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// Run the whole job on a plan and write a report folder.
+    Report {
+        /// The plan file (TOML).
+        plan: PathBuf,
+        /// Output folder (default: reports/<plan name>/).
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Seed of all random streams (overrides the plan).
+        #[arg(long)]
+        seed: Option<u64>,
+        /// Number of simulated futures (overrides the plan).
+        #[arg(long)]
+        scenarios: Option<usize>,
+        /// Worker threads (default: all cores). Results do not depend on it.
+        #[arg(long)]
+        threads: Option<usize>,
+        /// No progress output on stderr.
+        #[arg(long)]
+        quiet: bool,
+    },
+    /// Load a plan and all its inputs, and summarise them.
+    Check {
+        /// The plan file (TOML).
+        plan: PathBuf,
+    },
+    /// Write a commented plan template and example inputs into DIR.
+    Init {
+        /// Folder to create (must not already hold a plan.toml).
+        dir: PathBuf,
+    },
+    /// Write the invented demo business (plan and inputs) into DIR.
+    #[command(hide = true)]
+    DemoData {
+        dir: PathBuf,
+        #[arg(long, default_value_t = 600)]
+        keywords: usize,
+        #[arg(long, default_value_t = 10)]
+        clusters: usize,
+        #[arg(long, default_value_t = 30)]
+        months: usize,
+        #[arg(long, default_value_t = 7)]
+        seed: u64,
+    },
+}
+
+/// Maps a library error to its documented exit code.
+pub fn exit_code(e: &furrow::Error) -> u8 {
+    match e {
+        furrow::Error::Setting(_) => 2,
+        other => other.exit_code(),
+    }
+}
+
+fn set_threads(threads: Option<usize>) -> Result<()> {
+    if let Some(n) = threads {
+        if n == 0 {
+            return Err(furrow::Error::Setting("--threads must be at least 1".into()).into());
+        }
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build_global()
+            .context("cannot start the worker threads")?;
+    }
+    Ok(())
+}
+
+fn out(text: &str) -> Result<()> {
+    let mut stdout = std::io::stdout().lock();
+    match stdout
+        .write_all(text.as_bytes())
+        .and_then(|_| stdout.flush())
+    {
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        r => r.context("cannot write to standard output"),
+    }
+}
+
+/// Runs the parsed command.
+pub fn run(cli: Cli) -> Result<ExitCode> {
+    match cli.command {
+        Command::Check { plan } => {
+            let inputs = furrow::inputs::load::load(&plan, &Overrides::default())?;
+            out(&furrow::check::render(&furrow::check::summarise(&inputs)))?;
+        }
+        Command::Init { dir } => {
+            furrow::init::init(&dir)?;
+            out(&format!(
+                "Wrote a plan template and example inputs to {}.\nNext: furrow check {}\n",
+                dir.display(),
+                dir.join("plan.toml").display()
+            ))?;
+        }
+        Command::DemoData {
+            dir,
+            keywords,
+            clusters,
+            months,
+            seed,
+        } => {
+            let opts = furrow::demo::DemoOptions {
+                keywords,
+                clusters,
+                months,
+                seed,
+            };
+            furrow::demo::validate(&opts)?;
+            furrow::demo::generate(&dir, &opts)?;
+            out(&format!("Wrote the demo to {}\n", dir.display()))?;
+        }
+        Command::Report {
+            plan,
+            out: dir,
+            seed,
+            scenarios,
+            threads,
+            quiet,
+        } => {
+            set_threads(threads)?;
+            let o = Overrides {
+                seed,
+                scenarios,
+                ..Overrides::default()
+            };
+            let inputs = furrow::inputs::load::load(&plan, &o)?;
+            let report = furrow::report::run(&inputs, dir.as_deref(), quiet)?;
+            out(&report.terminal)?;
+        }
+    }
+    Ok(ExitCode::SUCCESS)
+}

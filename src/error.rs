@@ -1,0 +1,184 @@
+//! The library's error type and the exit code each kind maps to.
+//!
+//! Input problems are collected (a file with several problems reports all of
+//! them, up to a cap) and each names the file, line and column. Every other
+//! error names the flag, key or file involved and says how to fix it.
+
+use std::fmt;
+use std::path::PathBuf;
+use thiserror::Error;
+
+/// How many problems one load reports before it stops listing them.
+pub const MAX_ISSUES: usize = 50;
+
+/// One problem found in an input file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Issue {
+    /// The file, as the user named it.
+    pub file: String,
+    /// 1-based line, where one applies.
+    pub line: Option<u64>,
+    /// Column: its header name and 1-based position, where one applies.
+    pub column: Option<(String, usize)>,
+    /// What was wrong and what was expected.
+    pub message: String,
+}
+
+impl fmt::Display for Issue {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}", self.file)?;
+        if let Some(line) = self.line {
+            write!(f, ", line {line}")?;
+        }
+        if let Some((name, idx)) = &self.column {
+            write!(f, ", column {idx} ('{name}')")?;
+        }
+        write!(f, ": {}", self.message)
+    }
+}
+
+/// A list of input problems, shown one per line.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Issues {
+    items: Vec<Issue>,
+    /// Problems found beyond [`MAX_ISSUES`] and not listed.
+    pub more: usize,
+}
+
+impl Issues {
+    /// Records a problem (or counts it once the cap is reached).
+    pub fn push(&mut self, issue: Issue) {
+        if self.items.len() < MAX_ISSUES {
+            self.items.push(issue);
+        } else {
+            self.more += 1;
+        }
+    }
+
+    /// Records a problem with the file and an optional line and column.
+    pub fn add(
+        &mut self,
+        file: &str,
+        line: Option<u64>,
+        column: Option<(&str, usize)>,
+        message: impl Into<String>,
+    ) {
+        self.push(Issue {
+            file: file.to_string(),
+            line,
+            column: column.map(|(n, i)| (n.to_string(), i)),
+            message: message.into(),
+        });
+    }
+
+    /// True when no problem was recorded.
+    pub fn is_empty(&self) -> bool {
+        self.items.is_empty() && self.more == 0
+    }
+
+    /// The recorded problems.
+    pub fn items(&self) -> &[Issue] {
+        &self.items
+    }
+
+    /// Moves every problem of `other` into `self`.
+    pub fn extend(&mut self, other: Issues) {
+        for i in other.items {
+            self.push(i);
+        }
+        self.more += other.more;
+    }
+
+    /// `Ok(value)` when there were no problems, else the error listing them.
+    pub fn into_result<T>(self, value: T) -> Result<T, Error> {
+        if self.is_empty() {
+            Ok(value)
+        } else {
+            Err(Error::Input(self))
+        }
+    }
+}
+
+impl fmt::Display for Issues {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let n = self.items.len() + self.more;
+        write!(
+            f,
+            "{n} problem{} in the input:",
+            if n == 1 { "" } else { "s" }
+        )?;
+        for i in &self.items {
+            write!(f, "\n  {i}")?;
+        }
+        if self.more > 0 {
+            write!(f, "\n  ... and {} more not listed", self.more)?;
+        }
+        Ok(())
+    }
+}
+
+/// Every error the library returns.
+#[derive(Debug, Error)]
+pub enum Error {
+    /// Problems in input files, each with file, line and column.
+    #[error("{0}")]
+    Input(Issues),
+    /// A file could not be read.
+    #[error("cannot read {path}: {source}")]
+    Read {
+        path: PathBuf,
+        source: std::io::Error,
+    },
+    /// A file or folder could not be written.
+    #[error("cannot write {path}: {source}")]
+    Write {
+        path: PathBuf,
+        source: std::io::Error,
+    },
+    /// A problem in the plan file (TOML).
+    #[error("{file}, line {line}, column {column}: {message}")]
+    Plan {
+        file: String,
+        line: usize,
+        column: usize,
+        message: String,
+    },
+    /// A setting that is out of range or inconsistent (from a flag or the plan).
+    #[error("{0}")]
+    Setting(String),
+    /// A model file under models/ is invalid.
+    #[error("model file {origin}: {message}")]
+    Model { origin: String, message: String },
+    /// The data cannot support what was asked (too little history, ...).
+    #[error("{0}")]
+    Unsupported(String),
+    /// The run would need more memory than allowed.
+    #[error("{0}")]
+    Memory(String),
+    /// The solver failed or did not reach an optimum.
+    #[error("{0}")]
+    Solver(String),
+    /// No allocation satisfies the constraints.
+    #[error("{message}")]
+    Infeasible { message: String, min_tail_loss: f64 },
+}
+
+impl Error {
+    /// The documented exit code: 1 failure, 2 usage, 3 infeasible.
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            Error::Infeasible { .. } => 3,
+            _ => 1,
+        }
+    }
+
+    /// A single input problem.
+    pub fn input(file: &str, line: Option<u64>, column: Option<(&str, usize)>, msg: &str) -> Error {
+        let mut issues = Issues::default();
+        issues.add(file, line, column, msg);
+        Error::Input(issues)
+    }
+}
+
+/// The library's result type.
+pub type Result<T, E = Error> = std::result::Result<T, E>;

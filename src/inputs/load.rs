@@ -1,0 +1,322 @@
+//! Loads a plan and every input it names, in one pass that reports every
+//! problem of every file together, then cross-checks them (clusters in the
+//! plan against clusters in the keyword list, the forecast start against the
+//! history, the search-interest index against the history's months).
+
+use super::clusters::{self, ClusterSpec};
+use super::keywords::{self, KeywordSet};
+use super::monthly::{self, MonthlySeries};
+use super::queries::{self, QueryRow};
+use crate::error::{Error, Issues, Result};
+use crate::month::Month;
+use crate::plan::{self, Overrides, Plan};
+use std::path::{Path, PathBuf};
+
+/// Fewest months of history any forecast accepts.
+pub const MIN_HISTORY: usize = 12;
+/// Months of history the seasonal models need (two full seasons).
+pub const SEASONAL_HISTORY: usize = 24;
+/// Start used only when a history file has no months (already an error).
+const FALLBACK_START: Month = Month::FALLBACK;
+
+/// A plan with all its inputs loaded and checked.
+#[derive(Debug, Clone)]
+pub struct Inputs {
+    /// The plan.
+    pub plan: Plan,
+    /// Monthly history.
+    pub history: MonthlySeries,
+    /// Search-interest index, if given.
+    pub interest: Option<MonthlySeries>,
+    /// Keyword list.
+    pub keywords: KeywordSet,
+    /// Query export, if given.
+    pub queries: Option<Vec<QueryRow>>,
+    /// Clusters with funding tiers.
+    pub clusters: Vec<ClusterSpec>,
+    /// Actuals observed since the start, if given.
+    pub actuals: Option<MonthlySeries>,
+    /// First forecast month.
+    pub start: Month,
+    /// Things the user should know that do not stop the run.
+    pub warnings: Vec<String>,
+    /// Every input file read (label, path), for reproducibility hashes.
+    pub files: Vec<(String, PathBuf)>,
+}
+
+/// Loads the plan at `path`, applies `overrides`, and loads its inputs.
+pub fn load(path: &Path, overrides: &Overrides) -> Result<Inputs> {
+    let mut plan = plan::load(path)?;
+    plan.apply(overrides)?;
+    load_inputs(plan)
+}
+
+fn required_path(
+    plan: &Plan,
+    key: &str,
+    value: &Option<String>,
+    issues: &mut Issues,
+) -> Option<PathBuf> {
+    match value {
+        Some(v) => Some(plan.resolve(v)),
+        None => {
+            let msg = format!("[inputs] needs {key} = \"FILE\" (a path relative to the plan)");
+            issues.add(&plan.path.display().to_string(), None, Some((key, 0)), msg);
+            None
+        }
+    }
+}
+
+fn keep<T>(r: Result<T>, issues: &mut Issues) -> Result<Option<T>> {
+    match r {
+        Ok(v) => Ok(Some(v)),
+        Err(Error::Input(i)) => {
+            issues.extend(i);
+            Ok(None)
+        }
+        Err(e) => Err(e),
+    }
+}
+
+/// Loads every input of an already-read plan.
+pub fn load_inputs(plan: Plan) -> Result<Inputs> {
+    let mut issues = Issues::default();
+    let cfg = plan.file.inputs.clone();
+    let cols = &cfg.columns;
+    let mut files = vec![("plan".to_string(), plan.path.clone())];
+    let hist_path = required_path(&plan, "history", &cfg.history, &mut issues);
+    let kw_path = required_path(&plan, "keywords", &cfg.keywords, &mut issues);
+    let history = match &hist_path {
+        Some(p) => keep(
+            monthly::read(
+                p,
+                monthly::HISTORY_COLUMNS,
+                &cols.history,
+                monthly::NON_NEGATIVE,
+            ),
+            &mut issues,
+        )?,
+        None => None,
+    };
+    let keywords = match &kw_path {
+        Some(p) => keep(keywords::read(p, &cols.keywords), &mut issues)?,
+        None => None,
+    };
+    let interest = optional(
+        &plan,
+        &cfg.interest,
+        &mut files,
+        "interest",
+        &mut issues,
+        |p| {
+            monthly::read(
+                p,
+                monthly::INDEX_COLUMNS,
+                &cols.interest,
+                monthly::INDEX_RANGE,
+            )
+        },
+    )?;
+    let queries = optional(
+        &plan,
+        &cfg.queries,
+        &mut files,
+        "queries",
+        &mut issues,
+        |p| queries::read(p, &cols.queries),
+    )?;
+    let actuals = optional(
+        &plan,
+        &cfg.actuals,
+        &mut files,
+        "actuals",
+        &mut issues,
+        |p| {
+            monthly::read(
+                p,
+                monthly::ACTUALS_COLUMNS,
+                &cols.actuals,
+                monthly::NON_NEGATIVE,
+            )
+        },
+    )?;
+    let csv_clusters = optional(
+        &plan,
+        &cfg.clusters,
+        &mut files,
+        "clusters",
+        &mut issues,
+        |p| clusters::read(p, &cols.clusters),
+    )?;
+    for (label, p) in [("history", &hist_path), ("keywords", &kw_path)] {
+        if let Some(p) = p {
+            files.insert(1, (label.to_string(), p.clone()));
+        }
+    }
+    let (Some(history), Some(keywords)) = (history, keywords) else {
+        return Err(Error::Input(issues));
+    };
+    let mut clusters = clusters::from_plan(&plan);
+    merge_clusters(
+        &plan,
+        &mut clusters,
+        csv_clusters.unwrap_or_default(),
+        &mut issues,
+    );
+    let mut inputs = Inputs {
+        start: history
+            .last()
+            .map(|m| m.plus(1))
+            .or(plan.start)
+            .unwrap_or(FALLBACK_START),
+        plan,
+        history,
+        interest,
+        keywords,
+        queries,
+        clusters,
+        actuals,
+        warnings: Vec::new(),
+        files,
+    };
+    inputs.cross_check(&mut issues);
+    issues.into_result(inputs)
+}
+
+fn optional<T>(
+    plan: &Plan,
+    value: &Option<String>,
+    files: &mut Vec<(String, PathBuf)>,
+    label: &str,
+    issues: &mut Issues,
+    read: impl FnOnce(&Path) -> Result<T>,
+) -> Result<Option<T>> {
+    let Some(v) = value else { return Ok(None) };
+    let p = plan.resolve(v);
+    files.push((label.to_string(), p.clone()));
+    keep(read(&p), issues)
+}
+
+fn merge_clusters(
+    plan: &Plan,
+    clusters: &mut Vec<ClusterSpec>,
+    more: Vec<ClusterSpec>,
+    issues: &mut Issues,
+) {
+    for c in more {
+        if let Some(prev) = clusters.iter().find(|p| p.name == c.name) {
+            let msg = format!("the cluster '{}' is defined both in the plan ({}) and in the cluster file ({}); define it once", c.name, prev.origin, c.origin);
+            issues.add(&plan.path.display().to_string(), None, None, msg);
+        } else {
+            clusters.push(c);
+        }
+    }
+}
+
+impl Inputs {
+    fn cross_check(&mut self, issues: &mut Issues) {
+        self.check_history(issues);
+        self.check_clusters(issues);
+        self.check_interest();
+        self.check_actuals(issues);
+    }
+
+    fn check_history(&mut self, issues: &mut Issues) {
+        let n = self.history.len();
+        let file = self.history.file.clone();
+        if n < MIN_HISTORY {
+            issues.add(&file, None, None, format!("only {n} months of history; at least {MIN_HISTORY} are needed to forecast (24 or more for seasonal models)"));
+            return;
+        }
+        if n < SEASONAL_HISTORY {
+            self.warnings.push(format!("only {n} months of history: seasonal models need {SEASONAL_HISTORY} (two full seasons) and are unavailable"));
+        }
+        let after = self.history.last().map(|m| m.plus(1));
+        self.start = match (self.plan.start, after) {
+            (Some(s), Some(a)) => {
+                if s < a {
+                    self.warnings.push(format!("the forecast starts at {s}, before the history ends ({}); the overlapping months are forecast anyway", a.plus(-1)));
+                } else if s > a {
+                    self.warnings.push(format!("the forecast starts at {s}, {} months after the history ends; the gap is forecast first", s.since(a)));
+                }
+                s
+            }
+            (Some(s), None) => s,
+            (None, Some(a)) => a,
+            (None, None) => self.start,
+        };
+    }
+
+    fn check_clusters(&mut self, issues: &mut Issues) {
+        let plan_file = self.plan.path.display().to_string();
+        if self.clusters.is_empty() {
+            issues.add(&plan_file, None, None, "the plan defines no clusters to fund; add [[cluster]] tables with tiers (or [inputs] clusters = \"FILE\")");
+        }
+        for c in &self.clusters {
+            if !self.keywords.clusters.contains(&c.name) {
+                let known = self
+                    .keywords
+                    .clusters
+                    .iter()
+                    .take(12)
+                    .cloned()
+                    .collect::<Vec<_>>()
+                    .join(", ");
+                issues.add(
+                    &plan_file,
+                    None,
+                    None,
+                    format!(
+                        "the cluster '{}' ({}) has no keywords in {}; clusters there: {known}",
+                        c.name, c.origin, self.keywords.file
+                    ),
+                );
+            }
+        }
+        let unfunded: Vec<&String> = self
+            .keywords
+            .clusters
+            .iter()
+            .filter(|k| !self.clusters.iter().any(|c| &c.name == *k))
+            .collect();
+        if !unfunded.is_empty() {
+            let n: usize = self
+                .keywords
+                .keywords
+                .iter()
+                .filter(|k| unfunded.contains(&&self.keywords.clusters[k.cluster as usize]))
+                .count();
+            self.warnings.push(format!("{n} keywords in {} clusters without funding tiers are not simulated (they stay in the baseline): {}", unfunded.len(), unfunded.iter().take(5).map(|s| s.as_str()).collect::<Vec<_>>().join(", ")));
+        }
+        for c in &self.clusters {
+            if c.start
+                .is_some_and(|s| s.since(self.start) >= self.plan.horizon as i32)
+            {
+                self.warnings.push(format!("the cluster '{}' starts after the horizon ends; it cannot add anything in this forecast", c.name));
+            }
+        }
+    }
+
+    fn check_interest(&mut self) {
+        let Some(idx) = &self.interest else { return };
+        let covers = self.history.months.iter().all(|m| idx.months.contains(m));
+        if !covers {
+            self.warnings.push(format!("the search-interest index ({}) does not cover every history month; the index-growth method is unavailable", idx.file));
+        }
+    }
+
+    fn check_actuals(&mut self, issues: &mut Issues) {
+        let Some(a) = &self.actuals else { return };
+        let end = self.start.plus(self.plan.horizon as i32 - 1);
+        if let (Some(f), Some(l)) = (a.first(), a.last()) {
+            if f != self.start || l > end {
+                issues.add(&a.file, None, Some(("month", 1)), format!("actuals must run from the forecast start {} and end by {end}; found {f} to {l}", self.start));
+            }
+        }
+    }
+
+    /// Months of history.
+    pub fn history_months(&self) -> usize {
+        self.history.len()
+    }
+}

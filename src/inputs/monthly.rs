@@ -1,0 +1,247 @@
+//! Monthly series files: history, the search-interest index, and actuals.
+//!
+//! All three are a `month` column plus numbers. Months must be consecutive,
+//! with no gaps and no duplicates; rows may come in any order and are sorted.
+//! Every value must be a finite number (non-negative for counts and money);
+//! a blank cell in a present column is refused rather than guessed.
+
+use super::number::NumberKind;
+use super::table::{self, optional, required, ColumnSpec};
+use crate::error::{Issues, Result};
+use crate::month::Month;
+use std::collections::BTreeMap;
+use std::path::Path;
+
+/// A set of monthly series read from one file.
+#[derive(Debug, Clone, Default)]
+pub struct MonthlySeries {
+    /// The file, as named.
+    pub file: String,
+    /// Consecutive months, ascending.
+    pub months: Vec<Month>,
+    /// Column name (canonical, lower case) to values, one per month.
+    pub columns: BTreeMap<String, Vec<f64>>,
+    /// Extra columns that were not all numbers, with the first problem seen.
+    pub non_numeric: BTreeMap<String, String>,
+}
+
+impl MonthlySeries {
+    /// The values of `name`, if the file has that column.
+    pub fn get(&self, name: &str) -> Option<&[f64]> {
+        self.columns.get(&name.to_lowercase()).map(Vec::as_slice)
+    }
+
+    /// The first month.
+    pub fn first(&self) -> Option<Month> {
+        self.months.first().copied()
+    }
+
+    /// The last month.
+    pub fn last(&self) -> Option<Month> {
+        self.months.last().copied()
+    }
+
+    /// Number of months.
+    pub fn len(&self) -> usize {
+        self.months.len()
+    }
+
+    /// True when there are no months.
+    pub fn is_empty(&self) -> bool {
+        self.months.is_empty()
+    }
+}
+
+/// Columns of the monthly history (interface.md).
+pub const HISTORY_COLUMNS: &[ColumnSpec] = &[
+    required("month"),
+    required("clicks"),
+    optional("impressions"),
+    optional("branded_clicks"),
+    optional("sessions"),
+    optional("conversions"),
+    optional("revenue"),
+];
+
+/// Columns of the search-interest index.
+pub const INDEX_COLUMNS: &[ColumnSpec] = &[
+    required("month"),
+    ColumnSpec {
+        name: "index",
+        required: true,
+        aliases: &["interest", "value"],
+    },
+];
+
+/// Columns of an actuals file (months observed since the forecast start).
+pub const ACTUALS_COLUMNS: &[ColumnSpec] =
+    &[required("month"), required("clicks"), optional("revenue")];
+
+/// How values of a file are checked.
+#[derive(Debug, Clone, Copy)]
+pub struct ValueRule {
+    /// Smallest allowed value.
+    pub min: f64,
+    /// Largest allowed value.
+    pub max: f64,
+}
+
+/// Counts and money: non-negative.
+pub const NON_NEGATIVE: ValueRule = ValueRule {
+    min: 0.0,
+    max: f64::INFINITY,
+};
+
+/// An index from 0 to 100.
+pub const INDEX_RANGE: ValueRule = ValueRule {
+    min: 0.0,
+    max: 100.0,
+};
+
+/// Reads a monthly file with the given columns; extra columns are kept when
+/// they are numeric (so `--column` can pick any of them).
+pub fn read(
+    path: &Path,
+    specs: &[ColumnSpec],
+    mapping: &BTreeMap<String, String>,
+    rule: ValueRule,
+) -> Result<MonthlySeries> {
+    let mut t = table::open(path, specs, mapping)?;
+    let mut issues = Issues::default();
+    let extras = t.extra_columns();
+    let mut rows: Vec<(Month, u64, Vec<f64>)> = Vec::new();
+    let mut extra_vals: Vec<Vec<f64>> = vec![Vec::new(); extras.len()];
+    let mut non_numeric = BTreeMap::new();
+    while t.next_row(&mut issues) {
+        let Some(month) = read_month(&t, &mut issues) else {
+            continue;
+        };
+        let mut vals = Vec::with_capacity(specs.len());
+        for (k, spec) in specs.iter().enumerate().skip(1) {
+            if !t.has(k) {
+                continue;
+            }
+            match t.number_in(k, rule.min, rule.max, NumberKind::Plain, &mut issues) {
+                Some(v) => vals.push(v),
+                None => vals.push(f64::NAN),
+            }
+            let _ = spec;
+        }
+        read_extras(&t, &extras, &mut extra_vals, &mut non_numeric);
+        rows.push((month, t.line(), vals));
+    }
+    let months = check_months(&t.file, &mut rows, &mut issues);
+    let mut columns = BTreeMap::new();
+    let present: Vec<&ColumnSpec> = specs
+        .iter()
+        .enumerate()
+        .skip(1)
+        .filter(|(k, _)| t.has(*k))
+        .map(|(_, s)| s)
+        .collect();
+    for (j, spec) in present.iter().enumerate() {
+        columns.insert(spec.name.to_string(), rows.iter().map(|r| r.2[j]).collect());
+    }
+    add_extras(&extras, extra_vals, &rows, &non_numeric, &mut columns);
+    let series = MonthlySeries {
+        file: t.file.clone(),
+        months,
+        columns,
+        non_numeric,
+    };
+    issues.into_result(series)
+}
+
+fn read_month(t: &table::Table, issues: &mut Issues) -> Option<Month> {
+    let text = t.text(0, issues)?;
+    match Month::parse(text) {
+        Some(m) => Some(m),
+        None => {
+            let shown: String = text.chars().take(30).collect();
+            t.complain(
+                0,
+                issues,
+                format!("expected a month as YYYY-MM (for example 2025-03), found '{shown}'"),
+            );
+            None
+        }
+    }
+}
+
+fn read_extras(
+    t: &table::Table,
+    extras: &[(usize, String)],
+    vals: &mut [Vec<f64>],
+    non_numeric: &mut BTreeMap<String, String>,
+) {
+    for (j, (pos, name)) in extras.iter().enumerate() {
+        let key = name.to_lowercase();
+        if non_numeric.contains_key(&key) {
+            continue;
+        }
+        let cell = t
+            .raw(*pos)
+            .and_then(|c| std::str::from_utf8(c).ok())
+            .unwrap_or("");
+        match super::number::parse_number(cell, NumberKind::Plain) {
+            Ok(v) => vals[j].push(v),
+            Err(e) => {
+                non_numeric.insert(key, format!("line {}: {e}", t.line()));
+            }
+        }
+    }
+}
+
+fn add_extras(
+    extras: &[(usize, String)],
+    vals: Vec<Vec<f64>>,
+    rows: &[(Month, u64, Vec<f64>)],
+    non_numeric: &BTreeMap<String, String>,
+    columns: &mut BTreeMap<String, Vec<f64>>,
+) {
+    for ((_, name), v) in extras.iter().zip(vals) {
+        let key = name.to_lowercase();
+        if !key.is_empty() && !non_numeric.contains_key(&key) && v.len() == rows.len() {
+            columns.insert(key, v);
+        }
+    }
+}
+
+/// Sorts rows by month and reports duplicates and gaps with their lines.
+fn check_months(
+    file: &str,
+    rows: &mut [(Month, u64, Vec<f64>)],
+    issues: &mut Issues,
+) -> Vec<Month> {
+    rows.sort_by_key(|r| r.0);
+    for w in rows.windows(2) {
+        let (a, b) = (&w[0], &w[1]);
+        let gap = b.0.since(a.0);
+        if gap == 0 {
+            let msg = format!(
+                "the month {} appears twice (also on line {}); expected each month once",
+                b.0, a.1
+            );
+            issues.add(file, Some(b.1), Some(("month", 1)), msg);
+        } else if gap > 1 {
+            let msg = format!(
+                "months must be consecutive: {} is missing between {} (line {}) and {} (line {})",
+                missing_range(a.0, b.0),
+                a.0,
+                a.1,
+                b.0,
+                b.1
+            );
+            issues.add(file, Some(b.1), Some(("month", 1)), msg);
+        }
+    }
+    rows.iter().map(|r| r.0).collect()
+}
+
+fn missing_range(a: Month, b: Month) -> String {
+    if b.since(a) == 2 {
+        a.plus(1).to_string()
+    } else {
+        format!("{} to {}", a.plus(1), b.plus(-1))
+    }
+}

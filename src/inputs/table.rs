@@ -1,0 +1,434 @@
+//! The CSV core every reader shares: real exports, read as they come.
+//!
+//! Detects the delimiter (comma, semicolon or tab) from the header line,
+//! strips a UTF-8 byte-order mark, accepts CRLF, matches header names
+//! case-insensitively (with an optional mapping from the plan for exports
+//! whose headers differ), refuses binary, UTF-16 and non-UTF-8 input with the
+//! line and column, and reports ragged rows. Rows are streamed, never held
+//! twice, so a million-row keyword list loads in one pass.
+
+use crate::error::{Error, Issues, Result};
+use csv::ByteRecord;
+use std::collections::BTreeMap;
+use std::fs::File;
+use std::io::{Cursor, Read};
+use std::path::Path;
+
+use super::number::{parse_number, NumberKind};
+
+/// A column a reader knows.
+#[derive(Debug, Clone, Copy)]
+pub struct ColumnSpec {
+    /// The canonical (documented) name.
+    pub name: &'static str,
+    /// Whether the file must have it.
+    pub required: bool,
+    /// Other header names accepted for it (lower case).
+    pub aliases: &'static [&'static str],
+}
+
+/// Shorthand for a required column.
+pub const fn required(name: &'static str) -> ColumnSpec {
+    ColumnSpec {
+        name,
+        required: true,
+        aliases: &[],
+    }
+}
+
+/// Shorthand for an optional column.
+pub const fn optional(name: &'static str) -> ColumnSpec {
+    ColumnSpec {
+        name,
+        required: false,
+        aliases: &[],
+    }
+}
+
+/// An open CSV file positioned on its data rows.
+pub struct Table {
+    /// The file as the user named it (for messages).
+    pub file: String,
+    reader: csv::Reader<Box<dyn Read>>,
+    headers: Vec<String>,
+    /// For each spec, the 0-based position of its column in the file.
+    index: Vec<Option<usize>>,
+    names: Vec<&'static str>,
+    record: ByteRecord,
+    line: u64,
+    /// The delimiter found.
+    pub delimiter: u8,
+}
+
+const PEEK: usize = 64 * 1024;
+
+/// Opens `path` and matches its header against `specs`; `mapping` maps a
+/// canonical name to the header text used in this file.
+pub fn open(
+    path: &Path,
+    specs: &[ColumnSpec],
+    mapping: &BTreeMap<String, String>,
+) -> Result<Table> {
+    let file = path.display().to_string();
+    let mut f = File::open(path).map_err(|source| Error::Read {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    let mut peek = Vec::with_capacity(PEEK);
+    (&mut f)
+        .take(PEEK as u64)
+        .read_to_end(&mut peek)
+        .map_err(|source| Error::Read {
+            path: path.to_path_buf(),
+            source,
+        })?;
+    check_encoding(&file, &peek, specs)?;
+    let skip = if peek.starts_with(b"\xEF\xBB\xBF") {
+        3
+    } else {
+        0
+    };
+    let delimiter = detect_delimiter(&peek[skip..]);
+    let head: Box<dyn Read> = Box::new(Cursor::new(peek).chain(f));
+    let mut head = head;
+    if skip > 0 {
+        let mut bom = [0u8; 3];
+        head.read_exact(&mut bom).map_err(|source| Error::Read {
+            path: path.to_path_buf(),
+            source,
+        })?;
+    }
+    let reader = csv::ReaderBuilder::new()
+        .delimiter(delimiter)
+        .flexible(true)
+        .has_headers(false)
+        .from_reader(head);
+    let mut table = Table {
+        file,
+        reader,
+        headers: Vec::new(),
+        index: Vec::new(),
+        names: specs.iter().map(|s| s.name).collect(),
+        record: ByteRecord::new(),
+        line: 0,
+        delimiter,
+    };
+    table.read_header(specs, mapping)?;
+    Ok(table)
+}
+
+fn expected_header(specs: &[ColumnSpec]) -> String {
+    let req: Vec<&str> = specs
+        .iter()
+        .filter(|s| s.required)
+        .map(|s| s.name)
+        .collect();
+    format!("a header line with the columns {}", req.join(", "))
+}
+
+/// Refuses empty, binary, UTF-16 and non-UTF-8 starts of file.
+fn check_encoding(file: &str, peek: &[u8], specs: &[ColumnSpec]) -> Result<()> {
+    let body = peek.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(peek);
+    if body.iter().all(|b| b.is_ascii_whitespace()) {
+        let msg = format!("the file is empty; expected {}", expected_header(specs));
+        return Err(Error::input(file, Some(1), None, &msg));
+    }
+    if peek.starts_with(b"\xFF\xFE") || peek.starts_with(b"\xFE\xFF") {
+        let msg =
+            "the file is UTF-16 encoded; expected UTF-8 text (save or export it as UTF-8 CSV)";
+        return Err(Error::input(file, Some(1), None, msg));
+    }
+    if let Some(pos) = body.iter().position(|&b| b == 0) {
+        let line = 1 + body[..pos].iter().filter(|&&b| b == b'\n').count() as u64;
+        let msg = "the file looks binary (it contains NUL bytes); expected CSV text";
+        return Err(Error::input(file, Some(line), None, msg));
+    }
+    Ok(())
+}
+
+/// Picks the most frequent of comma, semicolon and tab outside quotes on the
+/// first line; comma when none appears.
+fn detect_delimiter(bytes: &[u8]) -> u8 {
+    let mut counts = [0usize; 3];
+    let mut quoted = false;
+    for &b in bytes {
+        match b {
+            b'"' => quoted = !quoted,
+            b'\n' | b'\r' if !quoted => break,
+            b',' if !quoted => counts[0] += 1,
+            b';' if !quoted => counts[1] += 1,
+            b'\t' if !quoted => counts[2] += 1,
+            _ => {}
+        }
+    }
+    let best = (0..3).max_by_key(|&i| (counts[i], 3 - i)).unwrap_or(0);
+    if counts[best] == 0 {
+        b','
+    } else {
+        [b',', b';', b'\t'][best]
+    }
+}
+
+impl Table {
+    fn read_header(
+        &mut self,
+        specs: &[ColumnSpec],
+        mapping: &BTreeMap<String, String>,
+    ) -> Result<()> {
+        let mut rec = ByteRecord::new();
+        let ok = self.reader.read_byte_record(&mut rec).map_err(|e| {
+            Error::input(
+                &self.file,
+                Some(1),
+                None,
+                &format!("cannot read the header: {e}"),
+            )
+        })?;
+        if !ok {
+            let msg = format!("the file is empty; expected {}", expected_header(specs));
+            return Err(Error::input(&self.file, Some(1), None, &msg));
+        }
+        self.line = rec.position().map(|p| p.line()).unwrap_or(1);
+        let mut issues = Issues::default();
+        for (i, cell) in rec.iter().enumerate() {
+            match std::str::from_utf8(cell) {
+                Ok(s) => self.headers.push(s.trim().to_string()),
+                Err(e) => {
+                    issues.add(
+                        &self.file,
+                        Some(self.line),
+                        Some(("?", i + 1)),
+                        utf8_msg(cell, e),
+                    );
+                    self.headers.push(String::new());
+                }
+            }
+        }
+        self.match_columns(specs, mapping, &mut issues);
+        issues.into_result(())
+    }
+
+    fn match_columns(
+        &mut self,
+        specs: &[ColumnSpec],
+        mapping: &BTreeMap<String, String>,
+        issues: &mut Issues,
+    ) {
+        let lower: Vec<String> = self.headers.iter().map(|h| h.to_lowercase()).collect();
+        for (i, h) in lower.iter().enumerate() {
+            if !h.is_empty() && lower[..i].contains(h) {
+                let msg = format!(
+                    "the header '{}' appears twice; expected each column once",
+                    self.headers[i]
+                );
+                issues.add(
+                    &self.file,
+                    Some(self.line),
+                    Some((&self.headers[i], i + 1)),
+                    msg,
+                );
+            }
+        }
+        for spec in specs {
+            let wanted: Vec<String> = match mapping.get(spec.name) {
+                Some(m) => vec![m.trim().to_lowercase()],
+                None => std::iter::once(spec.name)
+                    .chain(spec.aliases.iter().copied())
+                    .map(str::to_string)
+                    .collect(),
+            };
+            let pos = lower.iter().position(|h| wanted.contains(h));
+            if pos.is_none() && spec.required {
+                let via = match mapping.get(spec.name) {
+                    Some(m) => format!(" (mapped in the plan to '{m}')"),
+                    None => String::new(),
+                };
+                let msg = format!(
+                    "missing the required column '{}'{via}; the header has: {}. Rename the column or map it in the plan's [inputs.columns] table",
+                    spec.name,
+                    self.headers.join(", ")
+                );
+                issues.add(&self.file, Some(self.line), None, msg);
+            }
+            self.index.push(pos);
+        }
+    }
+
+    /// Whether the file has the column of spec `k`.
+    pub fn has(&self, k: usize) -> bool {
+        self.index.get(k).copied().flatten().is_some()
+    }
+
+    /// The file's header names, as written.
+    pub fn headers(&self) -> &[String] {
+        &self.headers
+    }
+
+    /// The 1-based line of the current row.
+    pub fn line(&self) -> u64 {
+        self.line
+    }
+
+    /// Moves to the next data row, recording read errors and ragged rows (and
+    /// skipping them). Returns false at the end of the file.
+    pub fn next_row(&mut self, issues: &mut Issues) -> bool {
+        loop {
+            match self.reader.read_byte_record(&mut self.record) {
+                Ok(false) => return false,
+                Ok(true) => {}
+                Err(e) => {
+                    let line = e.position().map(|p| p.line());
+                    issues.add(&self.file, line, None, format!("cannot read the row: {e}"));
+                    return false;
+                }
+            }
+            self.line = self
+                .record
+                .position()
+                .map(|p| p.line())
+                .unwrap_or(self.line + 1);
+            if self.record.len() == 1
+                && self
+                    .record
+                    .get(0)
+                    .is_some_and(|c| c.trim_ascii().is_empty())
+            {
+                continue;
+            }
+            if self.record.len() != self.headers.len() {
+                let msg = format!(
+                    "expected {} fields as in the header, found {}",
+                    self.headers.len(),
+                    self.record.len()
+                );
+                issues.add(&self.file, Some(self.line), None, msg);
+                continue;
+            }
+            return true;
+        }
+    }
+
+    fn col(&self, k: usize) -> (&str, usize) {
+        let pos = self.index[k].unwrap_or(0);
+        let name = self
+            .headers
+            .get(pos)
+            .map(String::as_str)
+            .unwrap_or(self.names[k]);
+        (name, pos + 1)
+    }
+
+    /// The raw cell of spec `k` as text (None when the column is absent or the
+    /// cell is not UTF-8, which is recorded).
+    pub fn text(&self, k: usize, issues: &mut Issues) -> Option<&str> {
+        let pos = self.index.get(k).copied().flatten()?;
+        let cell = self.record.get(pos)?;
+        match std::str::from_utf8(cell) {
+            Ok(s) => Some(s.trim()),
+            Err(e) => {
+                issues.add(
+                    &self.file,
+                    Some(self.line),
+                    Some(self.col(k)),
+                    utf8_msg(cell, e),
+                );
+                None
+            }
+        }
+    }
+
+    /// Records a problem with the cell of spec `k` on the current row.
+    pub fn complain(&self, k: usize, issues: &mut Issues, msg: impl Into<String>) {
+        issues.add(&self.file, Some(self.line), Some(self.col(k)), msg);
+    }
+
+    /// Records a problem with the current row as a whole.
+    pub fn complain_row(&self, issues: &mut Issues, msg: impl Into<String>) {
+        issues.add(&self.file, Some(self.line), None, msg);
+    }
+
+    /// The cell of spec `k` as a number; blank means `None`. Unparseable
+    /// cells are recorded and also give `None` (check `issues`).
+    pub fn number(&self, k: usize, kind: NumberKind, issues: &mut Issues) -> Option<f64> {
+        let t = self.text(k, issues)?;
+        if t.is_empty() {
+            return None;
+        }
+        match parse_number(t, kind) {
+            Ok(v) => Some(v),
+            Err(msg) => {
+                self.complain(k, issues, msg);
+                None
+            }
+        }
+    }
+
+    /// Like [`Table::number`] but a blank cell is a problem too.
+    pub fn required_number(&self, k: usize, kind: NumberKind, issues: &mut Issues) -> Option<f64> {
+        if self
+            .text(k, &mut Issues::default())
+            .is_some_and(str::is_empty)
+        {
+            self.complain(k, issues, "expected a number, found an empty cell");
+            return None;
+        }
+        self.number(k, kind, issues)
+    }
+
+    /// The cell of spec `k` as a number in `[lo, hi]`.
+    pub fn number_in(
+        &self,
+        k: usize,
+        lo: f64,
+        hi: f64,
+        kind: NumberKind,
+        issues: &mut Issues,
+    ) -> Option<f64> {
+        let v = self.required_number(k, kind, issues)?;
+        if v < lo || v > hi {
+            let range = if hi.is_infinite() {
+                format!("at least {lo}")
+            } else {
+                format!("between {lo} and {hi}")
+            };
+            self.complain(k, issues, format!("expected a number {range}, found {v}"));
+            return None;
+        }
+        Some(v)
+    }
+
+    /// Positions of the file's columns that no spec claimed, with their names.
+    pub fn extra_columns(&self) -> Vec<(usize, String)> {
+        (0..self.headers.len())
+            .filter(|i| !self.index.contains(&Some(*i)))
+            .map(|i| (i, self.headers[i].clone()))
+            .collect()
+    }
+
+    /// The raw text of file column `pos` on the current row.
+    pub fn raw(&self, pos: usize) -> Option<&[u8]> {
+        self.record.get(pos)
+    }
+}
+
+fn utf8_msg(cell: &[u8], e: std::str::Utf8Error) -> String {
+    format!(
+        "the text is not valid UTF-8 (invalid byte 0x{:02X} at byte {} of the cell); expected UTF-8 text (export or save the file as UTF-8)",
+        cell.get(e.valid_up_to()).copied().unwrap_or(0),
+        e.valid_up_to() + 1
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn delimiter_detection_prefers_the_most_frequent_outside_quotes() {
+        assert_eq!(detect_delimiter(b"a;b;c\n1,2;3"), b';');
+        assert_eq!(detect_delimiter(b"a,b\n"), b',');
+        assert_eq!(detect_delimiter(b"\"a;b\",c\n"), b',');
+        assert_eq!(detect_delimiter(b"a\tb\tc"), b'\t');
+        assert_eq!(detect_delimiter(b"single"), b',');
+    }
+}

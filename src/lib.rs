@@ -1,0 +1,23 @@
+//! furrow: forecast organic search, simulate keyword-cluster investments and
+//! allocate a budget under a tail-risk (CVaR) limit.
+//!
+//! The modules follow the data's path: `inputs` (files and the plan),
+//! `baseline` (no-new-work forecast), `clicks` (rankings to clicks to money),
+//! `simulate` (Monte Carlo), `allocate` (the CVaR linear program), `target`
+//! and `stress`, and `report`. The library never prints or exits; the binary
+//! in `main.rs` does.
+
+pub mod check;
+pub mod demo;
+pub mod error;
+pub mod fsio;
+pub mod init;
+pub mod inputs;
+pub mod model_files;
+pub mod month;
+pub mod plan;
+pub mod report;
+pub mod rng;
+pub mod text;
+
+pub use error::{Error, Result};

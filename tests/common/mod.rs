@@ -1,0 +1,40 @@
+//! Shared helpers for integration tests: run the binary in a fresh
+//! temporary folder and read what it printed.
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// Runs `furrow` with `args` in `dir`.
+pub fn furrow(dir: &Path, args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_furrow"))
+        .args(args)
+        .current_dir(dir)
+        .env_remove("RUST_BACKTRACE")
+        .output()
+        .expect("the furrow binary runs")
+}
+
+/// Text of stdout.
+pub fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).to_string()
+}
+
+/// Text of stderr.
+pub fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).to_string()
+}
+
+/// A fresh folder holding a valid project made by `furrow init`.
+pub fn project() -> (tempfile::TempDir, PathBuf) {
+    let tmp = tempfile::tempdir().expect("a temporary folder");
+    let o = furrow(tmp.path(), &["init", "p"]);
+    assert!(o.status.success(), "init failed: {}", stderr(&o));
+    let dir = tmp.path().join("p");
+    (tmp, dir)
+}
+
+/// Writes `bytes` to `dir/name`.
+pub fn write(dir: &Path, name: &str, bytes: &[u8]) {
+    std::fs::write(dir.join(name), bytes).expect("write a fixture");
+}
