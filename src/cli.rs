@@ -2,6 +2,7 @@
 //! user typed; the library then resolves it against the plan (flags win over
 //! the plan, the plan over defaults) into typed work.
 
+use crate::progress;
 use anyhow::{Context, Result};
 use clap::{Parser, Subcommand, ValueEnum};
 use furrow::plan::Overrides;
@@ -58,6 +59,38 @@ enum Command {
         /// Folder to create (must not already hold a plan.toml).
         dir: PathBuf,
     },
+    /// Central estimate per cluster and tier, with no randomness.
+    Estimate {
+        /// The plan file (TOML).
+        plan: PathBuf,
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+    /// Monte Carlo of every cluster and tier: distributions of clicks, revenue and net return.
+    Simulate {
+        /// The plan file (TOML).
+        plan: PathBuf,
+        /// Number of simulated futures (overrides the plan).
+        #[arg(long)]
+        scenarios: Option<usize>,
+        /// Seed of all random streams (overrides the plan).
+        #[arg(long)]
+        seed: Option<u64>,
+        /// Worker threads (default: all cores). Results do not depend on it.
+        #[arg(long)]
+        threads: Option<usize>,
+        /// Write the net-return matrix (allocate --returns format) here, and its costs beside it.
+        #[arg(long, value_name = "FILE")]
+        dump_scenarios: Option<PathBuf>,
+        /// Memory limit for the run, in MiB (default: half of the machine's memory).
+        #[arg(long, value_name = "MIB")]
+        max_memory: Option<u64>,
+        /// No progress bar.
+        #[arg(long)]
+        quiet: bool,
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
     /// Write the invented demo business (plan and inputs) into DIR.
     #[command(hide = true)]
     DemoData {
@@ -71,6 +104,21 @@ enum Command {
         #[arg(long, default_value_t = 7)]
         seed: u64,
     },
+}
+
+impl From<Format> for furrow::output::Format {
+    fn from(f: Format) -> Self {
+        match f {
+            Format::Table => furrow::output::Format::Table,
+            Format::Json => furrow::output::Format::Json,
+            Format::Csv => furrow::output::Format::Csv,
+        }
+    }
+}
+
+fn memory_limit(mib: Option<u64>) -> u64 {
+    mib.map(|m| m.saturating_mul(1024 * 1024))
+        .unwrap_or_else(furrow::simulate::engine::default_memory_limit)
 }
 
 /// Maps a library error to its documented exit code.
@@ -136,6 +184,51 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             furrow::demo::validate(&opts)?;
             furrow::demo::generate(&dir, &opts)?;
             out(&format!("Wrote the demo to {}\n", dir.display()))?;
+        }
+        Command::Estimate { plan, format } => {
+            let inputs = furrow::inputs::load::load(&plan, &Overrides::default())?;
+            let model = furrow::simulate::prepare(&inputs)?;
+            let est = furrow::estimate::estimate(&model, &inputs.plan.currency);
+            out(&furrow::output::render(&est, format.into())?)?;
+        }
+        Command::Simulate {
+            plan,
+            scenarios,
+            seed,
+            threads,
+            dump_scenarios,
+            max_memory,
+            quiet,
+            format,
+        } => {
+            set_threads(threads)?;
+            let o = Overrides {
+                seed,
+                scenarios,
+                ..Overrides::default()
+            };
+            let inputs = furrow::inputs::load::load(&plan, &o)?;
+            let model = furrow::simulate::prepare(&inputs)?;
+            let bar = progress::Bar::new(inputs.plan.scenarios as u64, "simulating futures", quiet);
+            let cb = |d: usize| bar.set(d as u64);
+            let opts = furrow::simulate::RunOptions {
+                scenarios: inputs.plan.scenarios,
+                seed: inputs.plan.seed,
+                max_memory: memory_limit(max_memory),
+                progress: Some(&cb),
+            };
+            let futures = furrow::simulate::run(&model, &opts)?;
+            bar.finish();
+            if let Some(path) = dump_scenarios {
+                furrow::simulate::dump_scenarios(&model, &futures, &path)?;
+            }
+            let summary = furrow::simulate::summarise_futures(
+                &model,
+                &futures,
+                inputs.plan.seed,
+                &inputs.plan.currency,
+            );
+            out(&furrow::output::render(&summary, format.into())?)?;
         }
         Command::Report {
             plan,

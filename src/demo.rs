@@ -323,7 +323,7 @@ fn keywords_csv(rng: &mut Stream, clusters: &[(String, Vec<String>)], n: usize) 
         } else {
             text
         };
-        let volume = (lognormal(rng, 5.3, 1.35) * if branded { 0.3 } else { 1.0 })
+        let volume = (lognormal(rng, 7.1, 1.3) * if branded { 0.3 } else { 1.0 })
             .round()
             .max(10.0);
         let difficulty = (12.0 + 9.0 * volume.ln() + 18.0 * (rng.random::<f64>() - 0.5))
@@ -367,10 +367,10 @@ fn draw_position(rng: &mut Stream, branded: bool) -> String {
     if branded {
         return format!("{:.1}", 1.0 + 2.0 * rng.random::<f64>());
     }
-    if rng.random::<f64>() < 0.28 {
+    if rng.random::<f64>() < 0.22 {
         return String::new();
     }
-    let p = (1.0 + 60.0 * rng.random::<f64>().powf(1.6)).min(100.0);
+    let p = (2.0 + 35.0 * rng.random::<f64>().powf(1.4)).min(100.0);
     format!("{p:.1}")
 }
 
@@ -446,21 +446,21 @@ fn plan_toml(rng: &mut Stream, clusters: &[(String, Vec<String>)], opts: &DemoOp
         "{}",
         PLAN_HEAD.replace("{months}", &opts.months.to_string())
     );
-    let total: f64 = clusters.len() as f64 * 26_000.0 * 0.55;
+    let total: f64 = clusters.len() as f64 * 1_500.0;
     let _ = write!(
         s,
         "\n[budget]\ntotal = {:.0}\ntail_level = 0.90\nmax_tail_loss = \"10%\"\n",
         (total / 1000.0).round() * 1000.0
     );
     for (name, _) in clusters {
-        let base = 4_000.0 + 4_000.0 * rng.random::<f64>();
+        let base = 1_500.0 + 1_800.0 * rng.random::<f64>();
         let _ = write!(
             s,
             "\n[[cluster]]\nname = \"{name}\"\nstart = \"2027-{:02}\"\ntiers = [\n  {{ label = \"refresh pages\", cost = {:.0}, effort = 1.0 }},\n  {{ label = \"new guides\", cost = {:.0}, effort = 1.0 }},\n  {{ label = \"outreach\", cost = {:.0}, effort = 1.5 }},\n]\n",
             1 + rng.random_range(0..4),
             (base / 100.0).round() * 100.0,
-            (base * 1.6 / 100.0).round() * 100.0,
-            (base * 2.4 / 100.0).round() * 100.0,
+            (base * 0.7 / 100.0).round() * 100.0,
+            (base * 1.0 / 100.0).round() * 100.0,
         );
     }
     s
@@ -496,9 +496,9 @@ method = "auto"
 [economics]
 conversions = 2150
 sessions = 98400
-order_value = 64.0
-order_value_spread = 38.0
-gross_margin = 0.38
+order_value = 110.0
+order_value_spread = 8.0
+gross_margin = 0.45
 seasonality = "history"
 
 [target]

@@ -62,9 +62,9 @@ method = "auto"              # auto, linear, seasonal-naive, holt, holt-winters-
 [economics]
 conversions = 2150           # conversions and sessions over a recent period give the
 sessions = 98400             # conversion rate with its uncertainty (or: conversion_rate = 0.021)
-order_value = 64.0           # average order value
-order_value_spread = 38.0    # its standard deviation across orders
-gross_margin = 0.38          # share of revenue kept as gross profit
+order_value = 86.0           # average order value
+order_value_spread = 6.0     # uncertainty (standard deviation) of that average over the horizon
+gross_margin = 0.42          # share of revenue kept as gross profit
 seasonality = "history"      # monthly search-volume shape: "history", "none" or 12 numbers
 # value_per_click = 0.9      # instead of the above, for lead-generation sites
 

@@ -8,16 +8,21 @@
 //! in `main.rs` does.
 
 pub mod check;
+pub mod clicks;
 pub mod demo;
 pub mod error;
+pub mod estimate;
 pub mod fsio;
 pub mod init;
 pub mod inputs;
 pub mod model_files;
 pub mod month;
+pub mod output;
 pub mod plan;
 pub mod report;
 pub mod rng;
+pub mod simulate;
+pub mod stats;
 pub mod text;
 
 pub use error::{Error, Result};

@@ -4,6 +4,7 @@
 //! Nothing else in the crate prints or exits.
 
 mod cli;
+mod progress;
 
 use clap::Parser;
 use std::process::ExitCode;

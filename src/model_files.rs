@@ -12,7 +12,20 @@ use crate::plan::Plan;
 use std::path::{Path, PathBuf};
 
 /// The repository's model files, built in: (path under models/, text).
-pub const BUILTIN: &[(&str, &str)] = &[];
+pub const BUILTIN: &[(&str, &str)] = &[
+    (
+        "ctr/default.toml",
+        include_str!("../models/ctr/default.toml"),
+    ),
+    (
+        "ctr/branded.toml",
+        include_str!("../models/ctr/branded.toml"),
+    ),
+    (
+        "rank-gain/default.toml",
+        include_str!("../models/rank-gain/default.toml"),
+    ),
+];
 
 /// A model file's text and where it came from.
 #[derive(Debug, Clone)]

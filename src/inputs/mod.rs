@@ -9,4 +9,5 @@ pub mod load;
 pub mod monthly;
 pub mod number;
 pub mod queries;
+pub mod scenarios;
 pub mod table;

@@ -1,0 +1,343 @@
+//! Click-through rate by position: the share of searches that click the
+//! site's result when it sits at average position `p`.
+//!
+//! A [`CtrCurve`] is read from an editable TOML model file (format below),
+//! validated, and evaluated at fractional positions by interpolating between
+//! its knots linearly in log CTR (geometric interpolation), which keeps the
+//! curve monotone and positive between two positive knots. A [`CtrLookup`]
+//! tabulates a curve on a fine grid in log-position for the Monte Carlo's
+//! inner loop.
+//!
+//! # Model file format (TOML)
+//!
+//! ```toml
+//! description = "what the curve is for"          # required
+//! source = "where the numbers come from"          # required
+//! ctr = [0.28, 0.155, 0.10]                       # CTR at positions 1, 2, 3, ... (1 to 100 values)
+//! tail = [[30, 0.0045], [50, 0.002], [100, 0.0005]]  # optional [position, ctr] points
+//! ```
+//!
+//! Rules: every CTR is in [0, 1]; CTR never increases with position; tail
+//! positions increase strictly, come after the last `ctr` position, and the
+//! curve must reach position 100 (the last tail point, or a 100th `ctr`
+//! value). Position below 1 counts as 1; past 100 (not ranking) the CTR is 0.
+//! Between two knots with positive CTR the curve is linear in log CTR; if
+//! either knot is 0 it is linear in CTR.
+
+use serde::{Deserialize, Serialize};
+
+use super::{invalid, ClicksError};
+
+/// The deepest position a curve covers; past it a result counts as not ranking.
+pub const MAX_POSITION: f64 = 100.0;
+
+/// The shipped default curve for non-branded queries.
+pub const DEFAULT_CTR_TOML: &str = include_str!("../../models/ctr/default.toml");
+
+/// The shipped default curve for branded queries.
+pub const BRANDED_CTR_TOML: &str = include_str!("../../models/ctr/branded.toml");
+
+/// Slack allowed when checking that CTR does not increase (rounding in files).
+const MONOTONE_SLACK: f64 = 1e-12;
+
+/// The comment block written at the top of a saved curve.
+const FILE_HEADER: &str = "\
+# Click-through rate (CTR) by average position, for furrow.
+# description: what the curve is for; source: where the numbers come from.
+# ctr: CTR at positions 1, 2, 3, ... in order (each in [0, 1], never increasing).
+# tail: [position, ctr] points after the last `ctr` position, positions increasing,
+#       the last one at position 100. Between points the curve is linear in log CTR;
+#       past position 100 the CTR is 0 (not ranking).
+";
+
+/// The fields as written in a model file.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawCurve {
+    description: String,
+    source: String,
+    ctr: Vec<f64>,
+    #[serde(default)]
+    tail: Vec<[f64; 2]>,
+}
+
+/// A validated click-through curve over positions 1 to 100.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CtrCurve {
+    description: String,
+    source: String,
+    ctr: Vec<f64>,
+    tail: Vec<[f64; 2]>,
+    #[serde(skip)]
+    xs: Vec<f64>,
+    #[serde(skip)]
+    ys: Vec<f64>,
+}
+
+impl CtrCurve {
+    /// Builds a curve from its parts, checking every rule of the file format.
+    /// `origin` names where the values came from (a file path, "fitted curve").
+    pub fn new(
+        description: &str,
+        source: &str,
+        ctr: Vec<f64>,
+        tail: Vec<[f64; 2]>,
+        origin: &str,
+    ) -> Result<CtrCurve, ClicksError> {
+        check_head(&ctr, origin)?;
+        check_tail(&ctr, &tail, origin)?;
+        let mut xs: Vec<f64> = (1..=ctr.len()).map(|p| p as f64).collect();
+        let mut ys = ctr.clone();
+        xs.extend(tail.iter().map(|t| t[0]));
+        ys.extend(tail.iter().map(|t| t[1]));
+        Ok(CtrCurve {
+            description: description.to_string(),
+            source: source.to_string(),
+            ctr,
+            tail,
+            xs,
+            ys,
+        })
+    }
+
+    /// The shipped non-branded default (`models/ctr/default.toml`).
+    pub fn builtin_default() -> Result<CtrCurve, ClicksError> {
+        CtrCurve::from_toml_str(DEFAULT_CTR_TOML, "built-in CTR curve (non-branded)")
+    }
+
+    /// The shipped branded default (`models/ctr/branded.toml`).
+    pub fn builtin_branded() -> Result<CtrCurve, ClicksError> {
+        CtrCurve::from_toml_str(BRANDED_CTR_TOML, "built-in CTR curve (branded)")
+    }
+
+    /// Reads a curve from the text of a model file; errors name `origin`.
+    pub fn from_toml_str(text: &str, origin: &str) -> Result<CtrCurve, ClicksError> {
+        let raw: RawCurve = toml::from_str(text).map_err(|e| ClicksError::Parse {
+            origin: origin.to_string(),
+            message: e.to_string().trim_end().to_string(),
+        })?;
+        CtrCurve::new(&raw.description, &raw.source, raw.ctr, raw.tail, origin)
+    }
+
+    /// Writes the curve in the model file format, with a comment header.
+    pub fn to_toml_string(&self) -> String {
+        let body = toml::to_string(self).unwrap_or_else(|e| format!("# cannot write: {e}\n"));
+        format!("{FILE_HEADER}\n{body}")
+    }
+
+    /// What the curve is for.
+    pub fn description(&self) -> &str {
+        &self.description
+    }
+
+    /// Where its numbers come from.
+    pub fn source(&self) -> &str {
+        &self.source
+    }
+
+    /// CTR at whole positions 1, 2, ... as given in the file.
+    pub fn head(&self) -> &[f64] {
+        &self.ctr
+    }
+
+    /// The `[position, ctr]` points after the head.
+    pub fn tail(&self) -> &[[f64; 2]] {
+        &self.tail
+    }
+
+    /// CTR at average position `position`: 1 for anything below 1, 0 past
+    /// 100 and for NaN (treated as not ranking); between knots, linear in
+    /// log CTR.
+    pub fn ctr(&self, position: f64) -> f64 {
+        if !(position <= MAX_POSITION) {
+            return 0.0;
+        }
+        let p = position.max(1.0);
+        let i = self.xs.partition_point(|&x| x <= p);
+        if i >= self.xs.len() {
+            return self.ys[self.ys.len() - 1];
+        }
+        let (x0, x1) = (self.xs[i - 1], self.xs[i]);
+        let t = (p - x0) / (x1 - x0);
+        interpolate(self.ys[i - 1], self.ys[i], t)
+    }
+}
+
+/// Geometric interpolation between `y0 >= y1` at fraction `t`, clamped to
+/// the segment so rounding can never break monotonicity; linear when an end
+/// is 0.
+fn interpolate(y0: f64, y1: f64, t: f64) -> f64 {
+    let y = if y0 > 0.0 && y1 > 0.0 {
+        y0 * (y1 / y0).powf(t)
+    } else {
+        y0 + (y1 - y0) * t
+    };
+    y.clamp(y1, y0)
+}
+
+/// Checks the `ctr` list: 1 to 100 values, each in [0, 1], non-increasing.
+fn check_head(ctr: &[f64], origin: &str) -> Result<(), ClicksError> {
+    if ctr.is_empty() || ctr.len() > 100 {
+        return Err(ClicksError::Invalid {
+            origin: origin.to_string(),
+            key: "ctr".to_string(),
+            found: format!("a list of {} values", ctr.len()),
+            expected: "1 to 100 values, the CTR at positions 1, 2, 3, ...".to_string(),
+        });
+    }
+    let mut previous = 1.0;
+    for (i, &c) in ctr.iter().enumerate() {
+        let key = format!("ctr at position {}", i + 1);
+        check_ctr_value(origin, &key, c, previous)?;
+        previous = c;
+    }
+    Ok(())
+}
+
+/// Checks one CTR value: within [0, 1] and not above the one before it.
+fn check_ctr_value(origin: &str, key: &str, c: f64, previous: f64) -> Result<(), ClicksError> {
+    if !(c.is_finite() && (0.0..=1.0).contains(&c)) {
+        return Err(invalid(
+            origin,
+            key,
+            c,
+            "a CTR from 0 to 1 (0.05 means 5 %)",
+        ));
+    }
+    if c > previous + MONOTONE_SLACK {
+        let expected =
+            format!("at most {previous} (the CTR before it): CTR must not increase with position");
+        return Err(invalid(origin, key, c, &expected));
+    }
+    Ok(())
+}
+
+/// Checks the tail points and that the curve reaches position 100.
+fn check_tail(ctr: &[f64], tail: &[[f64; 2]], origin: &str) -> Result<(), ClicksError> {
+    let mut last_x = ctr.len() as f64;
+    let mut last_y = ctr.last().copied().unwrap_or(1.0);
+    for (i, point) in tail.iter().enumerate() {
+        let [x, y] = *point;
+        let key = format!("tail point {} (position {x})", i + 1);
+        if !(x.is_finite() && x > last_x && x <= MAX_POSITION) {
+            let expected =
+                format!("a position above {last_x} and at most 100 (positions increase)");
+            return Err(invalid(origin, &key, x, &expected));
+        }
+        check_ctr_value(origin, &key, y, last_y)?;
+        last_x = x;
+        last_y = y;
+    }
+    if (last_x - MAX_POSITION).abs() > 1e-9 {
+        let expected = "a curve reaching position 100: add a last tail point such as [100, 0.0005]";
+        return Err(invalid(origin, "last position", last_x, expected));
+    }
+    Ok(())
+}
+
+/// Number of grid steps a [`CtrLookup`] uses by default.
+pub const LOOKUP_STEPS: usize = 4096;
+
+/// A curve tabulated on an even grid in log-position over [ln 1, ln 100],
+/// for evaluating CTR millions of times without a search or a `powf`.
+///
+/// Linear interpolation in the table; because the curve is monotone, the
+/// table's value and the exact value lie between the same two grid values,
+/// so the error is at most the difference of adjacent table entries.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CtrLookup {
+    table: Vec<f64>,
+    scale: f64,
+    steps: usize,
+}
+
+impl CtrLookup {
+    /// Tabulates `curve` with [`LOOKUP_STEPS`] steps.
+    pub fn new(curve: &CtrCurve) -> CtrLookup {
+        CtrLookup::with_steps(curve, LOOKUP_STEPS)
+    }
+
+    /// Tabulates `curve` with `steps` steps (at least 1).
+    pub fn with_steps(curve: &CtrCurve, steps: usize) -> CtrLookup {
+        let steps = steps.max(1);
+        let ln_max = MAX_POSITION.ln();
+        let mut table: Vec<f64> = (0..=steps)
+            .map(|j| curve.ctr((j as f64 * ln_max / steps as f64).exp()))
+            .collect();
+        table[0] = curve.ctr(1.0);
+        table[steps] = curve.ctr(MAX_POSITION);
+        CtrLookup {
+            table,
+            scale: steps as f64 / ln_max,
+            steps,
+        }
+    }
+
+    /// CTR at `position` (same conventions as [`CtrCurve::ctr`]).
+    #[inline]
+    pub fn ctr(&self, position: f64) -> f64 {
+        if !(position <= MAX_POSITION) {
+            return 0.0;
+        }
+        self.ctr_ln(position.max(1.0).ln())
+    }
+
+    /// CTR at the position whose natural log is `ln_position` (the rank-gain
+    /// model works in log-position, so the hot loop can skip the `ln`).
+    #[inline]
+    pub fn ctr_ln(&self, ln_position: f64) -> f64 {
+        if !(ln_position <= MAX_POSITION.ln()) {
+            return 0.0;
+        }
+        let x = ln_position.max(0.0) * self.scale;
+        let i = (x as usize).min(self.steps - 1);
+        let f = x - i as f64;
+        let (a, b) = (self.table[i], self.table[i + 1]);
+        a + (b - a) * f
+    }
+
+    /// The largest difference between adjacent table entries: a bound on
+    /// the lookup's error against the exact curve.
+    pub fn error_bound(&self) -> f64 {
+        self.table
+            .windows(2)
+            .map(|w| (w[0] - w[1]).abs())
+            .fold(0.0, f64::max)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn small() -> CtrCurve {
+        CtrCurve::new(
+            "t",
+            "test",
+            vec![0.3, 0.15, 0.1],
+            vec![[10.0, 0.02], [100.0, 0.0]],
+            "t",
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn geometric_between_positive_knots_and_linear_to_zero() {
+        let c = small();
+        // Halfway between 0.3 and 0.15 in log CTR is their geometric mean.
+        assert!((c.ctr(1.5) - (0.3f64 * 0.15).sqrt()).abs() < 1e-12);
+        // Between 0.02 at 10 and 0 at 100, linear: at 55 it is 0.01.
+        assert!((c.ctr(55.0) - 0.01).abs() < 1e-12);
+        assert_eq!(c.ctr(0.2), 0.3);
+        assert_eq!(c.ctr(100.5), 0.0);
+        assert_eq!(c.ctr(f64::NAN), 0.0);
+    }
+
+    #[test]
+    fn rejects_increase_and_short_curve() {
+        let e = CtrCurve::new("t", "s", vec![0.3, 0.31], vec![[100.0, 0.0]], "f.toml");
+        assert!(e.unwrap_err().to_string().contains("ctr at position 2"));
+        let e = CtrCurve::new("t", "s", vec![0.3, 0.2], vec![[50.0, 0.0]], "f.toml");
+        assert!(e.unwrap_err().to_string().contains("position 100"));
+    }
+}

@@ -1,0 +1,232 @@
+//! Scenario files for `furrow allocate --returns FILE --costs FILE`.
+//!
+//! The returns file has a header of investment ids, then one row per
+//! simulated future: the net return of funding that id fully in that future.
+//! The costs file has `id`, `cost`, optional `max_fraction` (default 1),
+//! `min_fraction` (default 0) and `requires` (an id that must be funded at
+//! least as much: the tier below). `simulate --dump-scenarios` writes both.
+//! Every id must appear in both files; `requires` must name a known id and
+//! must not form a cycle.
+
+use super::number::NumberKind;
+use super::table::{self, optional, required, ColumnSpec};
+use crate::error::{Issues, Result};
+use std::collections::{BTreeMap, HashMap};
+use std::path::Path;
+
+/// The futures: `values[s * ids.len() + i]` is id `i` in future `s`.
+#[derive(Debug, Clone, Default)]
+pub struct Returns {
+    /// The file, as named.
+    pub file: String,
+    /// Investment ids in header order.
+    pub ids: Vec<String>,
+    /// Scenario-major net returns.
+    pub values: Vec<f32>,
+}
+
+impl Returns {
+    /// Number of futures.
+    pub fn scenarios(&self) -> usize {
+        self.values.len() / self.ids.len().max(1)
+    }
+}
+
+/// One row of the costs file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CostRow {
+    pub id: String,
+    pub cost: f64,
+    pub min_fraction: f64,
+    pub max_fraction: f64,
+    pub requires: Option<String>,
+    pub line: u64,
+}
+
+/// Reads the returns file.
+pub fn read_returns(path: &Path) -> Result<Returns> {
+    let mut t = table::open(path, &[], &BTreeMap::new())?;
+    let mut issues = Issues::default();
+    let ids: Vec<String> = t.headers().to_vec();
+    check_ids(&t, &ids, &mut issues);
+    let mut values = Vec::new();
+    while t.next_row(&mut issues) {
+        for (i, id) in ids.iter().enumerate() {
+            let cell = t
+                .raw(i)
+                .map(|c| String::from_utf8_lossy(c).to_string())
+                .unwrap_or_default();
+            match super::number::parse_number(&cell, NumberKind::Plain) {
+                Ok(v) if v.abs() < f32::MAX as f64 => values.push(v as f32),
+                Ok(v) => {
+                    issues.add(
+                        &t.file,
+                        Some(t.line()),
+                        Some((id, i + 1)),
+                        format!("the value {v} is too large; expected a net return below 3.4e38"),
+                    );
+                    values.push(0.0);
+                }
+                Err(msg) => {
+                    issues.add(&t.file, Some(t.line()), Some((id, i + 1)), msg);
+                    values.push(0.0);
+                }
+            }
+        }
+    }
+    if values.is_empty() && issues.is_empty() {
+        issues.add(
+            &t.file,
+            Some(2),
+            None,
+            "no futures: expected one row of net returns per simulated future after the header",
+        );
+    }
+    issues.into_result(Returns {
+        file: t.file.clone(),
+        ids,
+        values,
+    })
+}
+
+fn check_ids(t: &table::Table, ids: &[String], issues: &mut Issues) {
+    let mut seen: HashMap<&str, usize> = HashMap::new();
+    for (i, id) in ids.iter().enumerate() {
+        if id.is_empty() {
+            issues.add(
+                &t.file,
+                Some(1),
+                Some(("", i + 1)),
+                "an empty investment id in the header; expected a name such as cluster/tier",
+            );
+        } else if let Some(prev) = seen.insert(id, i + 1) {
+            issues.add(&t.file, Some(1), Some((id, i + 1)), format!("the id '{id}' appears twice in the header (also column {prev}); expected each id once"));
+        }
+    }
+}
+
+/// Columns of the costs file.
+pub const COST_COLUMNS: &[ColumnSpec] = &[
+    required("id"),
+    required("cost"),
+    optional("max_fraction"),
+    optional("requires"),
+    optional("min_fraction"),
+];
+
+/// Reads the costs file.
+pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
+    let mut t = table::open(path, COST_COLUMNS, &BTreeMap::new())?;
+    let mut issues = Issues::default();
+    let mut rows: Vec<CostRow> = Vec::new();
+    while t.next_row(&mut issues) {
+        let id = t.text(0, &mut issues).map(str::to_string);
+        let cost = t.number_in(1, 0.0, f64::MAX, NumberKind::Plain, &mut issues);
+        let max = fraction(&t, 2, 1.0, &mut issues);
+        let min = fraction(&t, 4, 0.0, &mut issues);
+        let requires = t
+            .text(3, &mut issues)
+            .filter(|s| !s.is_empty())
+            .map(str::to_string);
+        let (Some(id), Some(cost), Some(max), Some(min)) = (id, cost, max, min) else {
+            continue;
+        };
+        if id.is_empty() {
+            t.complain(
+                0,
+                &mut issues,
+                "expected an investment id, found an empty cell",
+            );
+            continue;
+        }
+        if min > max {
+            t.complain(
+                4,
+                &mut issues,
+                format!("min_fraction ({min}) exceeds max_fraction ({max})"),
+            );
+        }
+        if let Some(prev) = rows.iter().find(|r| r.id == id) {
+            t.complain(
+                0,
+                &mut issues,
+                format!(
+                    "the id '{id}' is listed twice (also on line {}); expected each id once",
+                    prev.line
+                ),
+            );
+            continue;
+        }
+        rows.push(CostRow {
+            id,
+            cost,
+            min_fraction: min,
+            max_fraction: max,
+            requires,
+            line: t.line(),
+        });
+    }
+    check_requires(&t.file, &rows, &mut issues);
+    issues.into_result(rows)
+}
+
+fn fraction(t: &table::Table, k: usize, default: f64, issues: &mut Issues) -> Option<f64> {
+    if !t.has(k) || t.text(k, &mut Issues::default()).is_some_and(str::is_empty) {
+        return Some(default);
+    }
+    t.number_in(k, 0.0, 1.0, NumberKind::Rate, issues)
+}
+
+/// `requires` must name a listed id and must not form a cycle.
+fn check_requires(file: &str, rows: &[CostRow], issues: &mut Issues) {
+    let index: HashMap<&str, usize> = rows
+        .iter()
+        .enumerate()
+        .map(|(i, r)| (r.id.as_str(), i))
+        .collect();
+    for r in rows {
+        let Some(req) = &r.requires else { continue };
+        if !index.contains_key(req.as_str()) {
+            issues.add(
+                file,
+                Some(r.line),
+                Some(("requires", 4)),
+                format!(
+                    "'{}' requires '{req}', which is not an id in this file",
+                    r.id
+                ),
+            );
+            continue;
+        }
+        let mut cur = req.as_str();
+        for _ in 0..=rows.len() {
+            if cur == r.id {
+                issues.add(file, Some(r.line), Some(("requires", 4)), format!("'{}' requires itself through a cycle of 'requires'; expected a chain that ends at a first tier", r.id));
+                break;
+            }
+            match index.get(cur).and_then(|&i| rows[i].requires.as_deref()) {
+                Some(next) => cur = next,
+                None => break,
+            }
+        }
+    }
+}
+
+/// Checks that the two files name the same ids; returns costs ordered as
+/// the returns header.
+pub fn match_ids(returns: &Returns, costs: &[CostRow], costs_file: &str) -> Result<Vec<CostRow>> {
+    let mut issues = Issues::default();
+    let mut ordered = Vec::with_capacity(returns.ids.len());
+    for (i, id) in returns.ids.iter().enumerate() {
+        match costs.iter().find(|c| &c.id == id) {
+            Some(c) => ordered.push(c.clone()),
+            None => issues.add(&returns.file, Some(1), Some((id, i + 1)), format!("the id '{id}' has no row in the costs file {costs_file}; expected every id of the returns header there")),
+        }
+    }
+    for c in costs {
+        if !returns.ids.contains(&c.id) {
+            issues.add(costs_file, Some(c.line), Some(("id", 1)), format!("the id '{}' is not in the returns header of {}; expected the same ids in both files", c.id, returns.file));
+        }
+    }
+    issues.into_result(ordered)
+}

@@ -1,0 +1,243 @@
+//! The parallel Monte Carlo: S futures, each with its own seeded streams.
+//!
+//! Future `s` draws its site-wide factors from stream (seed, SITE, s) and,
+//! for cluster `c`, the execution factor and then every keyword's draws from
+//! stream (seed, CLUSTER, s, c). Streams depend only on (seed, s, c), never
+//! on the thread that runs them, so any thread count gives the same bits.
+//! rayon runs futures in parallel; each worker keeps its scratch buffers,
+//! so the keyword loop allocates nothing. The result matrix holds each
+//! future's incremental clicks per (cluster, tier, month) as f32 (tier
+//! gains cumulative: tier t includes the tiers below it).
+
+use super::kernel::{add_keyword, FutureContext};
+use super::model::Model;
+use crate::clicks::sampling::standard_normal;
+use crate::clicks::{KeywordDraws, SiteDraw};
+use crate::error::{Error, Result};
+use crate::rng::{domain, stream, substream};
+use rayon::prelude::*;
+
+/// The simulated futures.
+#[derive(Debug, Clone)]
+pub struct Futures {
+    /// Number of futures.
+    pub scenarios: usize,
+    /// Months per future.
+    pub horizon: usize,
+    /// `(cluster, tier)` of each slot.
+    pub slots: Vec<(usize, usize)>,
+    /// `clicks[(s * slots + j) * horizon + m]`: cumulative-tier incremental
+    /// clicks of slot `j` in month `m` of future `s`.
+    pub clicks: Vec<f32>,
+    /// Site-wide factors of each future.
+    pub site: Vec<SiteDraw>,
+    /// Execution factor of each cluster in each future (`s * clusters + c`).
+    pub execution: Vec<f32>,
+    /// Number of clusters.
+    pub clusters: usize,
+}
+
+impl Futures {
+    /// Monthly clicks of slot `j` in future `s`.
+    pub fn monthly(&self, s: usize, j: usize) -> &[f32] {
+        let n = self.slots.len();
+        let at = (s * n + j) * self.horizon;
+        &self.clicks[at..at + self.horizon]
+    }
+
+    /// Total clicks of slot `j` over the horizon in future `s`.
+    pub fn total(&self, s: usize, j: usize) -> f64 {
+        self.monthly(s, j).iter().map(|&v| v as f64).sum()
+    }
+}
+
+/// Options of a run.
+pub struct RunOptions<'a> {
+    /// Number of futures.
+    pub scenarios: usize,
+    /// Seed.
+    pub seed: u64,
+    /// Memory limit in bytes for the result matrices.
+    pub max_memory: u64,
+    /// Called with the number of futures finished so far (from any thread).
+    pub progress: Option<&'a (dyn Fn(usize) + Sync)>,
+}
+
+/// Bytes the run and the allocation after it will hold for `scenarios`.
+pub fn memory_estimate(model: &Model, scenarios: usize) -> u64 {
+    let slots = model.slots() as u64;
+    let h = model.horizon() as u64;
+    let per_future = slots * h * 4 // monthly clicks
+        + slots * 4 * 3 // net returns for the allocation, and their copies in the solver
+        + std::mem::size_of::<SiteDraw>() as u64
+        + model.clusters.len() as u64 * 4
+        + h * 8 * 3; // baseline paths and totals
+    per_future * scenarios as u64 + 64 * 1024 * 1024
+}
+
+/// Refuses a run that would exceed `max_memory`, naming the largest count that fits.
+pub fn check_memory(model: &Model, scenarios: usize, max_memory: u64) -> Result<()> {
+    let need = memory_estimate(model, scenarios);
+    if need <= max_memory {
+        return Ok(());
+    }
+    let per = memory_estimate(model, 2) - memory_estimate(model, 1);
+    let fits = max_memory.saturating_sub(memory_estimate(model, 0)) / per.max(1);
+    Err(Error::Memory(format!(
+        "{scenarios} futures would need about {} MiB, above the limit of {} MiB; the largest count that fits is {fits} (use --scenarios {fits}, or raise --max-memory)",
+        need / (1024 * 1024),
+        max_memory / (1024 * 1024)
+    )))
+}
+
+/// Half of the machine's memory (the default limit), read from /proc/meminfo;
+/// 4 GiB when it cannot be read.
+pub fn default_memory_limit() -> u64 {
+    let total = std::fs::read_to_string("/proc/meminfo").ok().and_then(|t| {
+        t.lines()
+            .find(|l| l.starts_with("MemTotal:"))
+            .and_then(|l| l.split_whitespace().nth(1))
+            .and_then(|kb| kb.parse::<u64>().ok())
+    });
+    total.map(|kb| kb * 1024 / 2).unwrap_or(4 << 30)
+}
+
+struct Scratch {
+    ramp: Vec<f64>,
+    acc: Vec<f64>,
+}
+
+/// Runs the Monte Carlo.
+pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
+    check_memory(model, opts.scenarios, opts.max_memory)?;
+    let slots = model.slot_index();
+    let (h, n, nc) = (model.horizon(), slots.len(), model.clusters.len());
+    let max_tiers = model
+        .clusters
+        .iter()
+        .map(|c| c.n_tiers())
+        .max()
+        .unwrap_or(0);
+    let mut clicks = vec![0f32; opts.scenarios * n * h];
+    let mut execution = vec![0f32; opts.scenarios * nc];
+    let site: Vec<SiteDraw> = (0..opts.scenarios)
+        .into_par_iter()
+        .map(|s| {
+            model.factors.draw_site(
+                &model.economics,
+                &mut stream(opts.seed, domain::SITE, s as u64),
+            )
+        })
+        .collect::<std::result::Result<_, _>>()
+        .map_err(|e| Error::Model {
+            origin: "factors".into(),
+            message: e.to_string(),
+        })?;
+    let done = std::sync::atomic::AtomicUsize::new(0);
+    let chunk = (n * h).max(1);
+    clicks
+        .par_chunks_mut(chunk)
+        .zip(execution.par_chunks_mut(nc.max(1)))
+        .enumerate()
+        .for_each_init(
+            || Scratch {
+                ramp: vec![0.0; h],
+                acc: vec![0.0; max_tiers * h],
+            },
+            |scratch, (s, (out, exec_out))| {
+                one_future(model, opts.seed, s, &site[s], scratch, out, exec_out);
+                if let Some(p) = opts.progress {
+                    let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+                    if d % 256 == 0 || d == opts.scenarios {
+                        p(d);
+                    }
+                }
+            },
+        );
+    Ok(Futures {
+        scenarios: opts.scenarios,
+        horizon: h,
+        slots,
+        clicks,
+        site,
+        execution,
+        clusters: nc,
+    })
+}
+
+fn one_future(
+    model: &Model,
+    seed: u64,
+    s: usize,
+    site: &SiteDraw,
+    sc: &mut Scratch,
+    out: &mut [f32],
+    exec_out: &mut [f32],
+) {
+    one_future_generic(model, seed, s, site, sc, out, exec_out, |a| a as f32);
+}
+
+#[allow(clippy::too_many_arguments)]
+fn one_future_generic<T: Copy>(
+    model: &Model,
+    seed: u64,
+    s: usize,
+    site: &SiteDraw,
+    sc: &mut Scratch,
+    out: &mut [T],
+    exec_out: &mut [f32],
+    store: impl Fn(f64) -> T,
+) {
+    let h = model.horizon();
+    let ctx = FutureContext::new(site, h);
+    let scale = site.ctr_factor * site.volume_factor;
+    let mut slot = 0;
+    for (c, cl) in model.clusters.iter().enumerate() {
+        let mut rng = substream(seed, domain::CLUSTER, s as u64, c as u64);
+        let exec = model.factors.execution_factor(standard_normal(&mut rng));
+        if let Some(e) = exec_out.get_mut(c) {
+            *e = exec as f32;
+        }
+        let nt = cl.n_tiers();
+        let acc = &mut sc.acc[..nt * h];
+        acc.fill(0.0);
+        for k in 0..cl.keywords.len() {
+            let draws = KeywordDraws::draw(&mut rng);
+            add_keyword(model, cl, k, &draws, exec, &ctx, &mut sc.ramp, acc);
+        }
+        for (o, a) in out[slot * h..(slot + nt) * h].iter_mut().zip(acc.iter()) {
+            *o = store(a * scale);
+        }
+        slot += nt;
+    }
+}
+
+/// One future's cumulative-tier monthly clicks in f64 (slot-major, then
+/// month), exactly as the engine computes them before storing f32. For
+/// checks of the f32 storage and for re-simulating single futures.
+pub fn future_f64(model: &Model, seed: u64, s: usize, site: &SiteDraw) -> Vec<f64> {
+    let h = model.horizon();
+    let max_tiers = model
+        .clusters
+        .iter()
+        .map(|c| c.n_tiers())
+        .max()
+        .unwrap_or(0);
+    let mut scratch = Scratch {
+        ramp: vec![0.0; h],
+        acc: vec![0.0; max_tiers * h],
+    };
+    let mut out = vec![0f64; model.slots() * h];
+    let mut exec = vec![0f32; model.clusters.len()];
+    one_future_generic(
+        model,
+        seed,
+        s,
+        site,
+        &mut scratch,
+        &mut out,
+        &mut exec,
+        |a| a,
+    );
+    out
+}

@@ -1,0 +1,318 @@
+//! The prepared model: everything the Monte Carlo and `estimate` need,
+//! computed once from the plan, the keyword list and the model files.
+//!
+//! Per cluster, the keywords that can move (with their volume, today's
+//! log-position, difficulty and chance of no gain), each tier's central
+//! log-position gain at its cumulative effort, the month the cluster starts;
+//! per horizon month, the search-volume season index; the click-through
+//! lookups; the economics and the spreads of the shared factors. The hot
+//! loop then does only table look-ups and arithmetic.
+
+use crate::clicks::rank_gain::start_position;
+use crate::clicks::{
+    ConversionRate, CtrCurve, CtrLookup, Economics, ExplicitGain, Factors, GainDistribution,
+    GainScale, OrderValue, RankGainModel, Seasonality,
+};
+use crate::error::{Error, Result};
+use crate::inputs::clusters::{ClusterSpec, GainOver, GainShape, TierSpec};
+use crate::inputs::load::Inputs;
+use crate::model_files;
+use crate::month::Month;
+use crate::plan::SeasonalityCfg;
+
+/// One keyword as the simulation sees it.
+#[derive(Debug, Clone, Copy)]
+pub struct KeywordModel {
+    /// Monthly search volume.
+    pub volume: f64,
+    /// Today's position (100 when not ranking).
+    pub p0: f64,
+    /// `ln p0`.
+    pub ln_p0: f64,
+    /// Difficulty 0 to 100.
+    pub difficulty: f64,
+    /// Uses the branded click-through curve.
+    pub branded: bool,
+    /// Chance of no gain at all under the model.
+    pub no_gain: f64,
+    /// Central months to full effect.
+    pub months_to_full: f64,
+}
+
+/// How a tier's gain is set.
+#[derive(Debug, Clone, Copy)]
+pub enum TierGain {
+    /// The rank-gain model at this cumulative effort.
+    Model { cumulative_effort: f64 },
+    /// An explicit distribution.
+    Explicit(ExplicitGain),
+}
+
+/// One cluster as the simulation sees it.
+#[derive(Debug, Clone)]
+pub struct ClusterModel {
+    /// Its name.
+    pub name: String,
+    /// Its tiers as planned.
+    pub tiers: Vec<TierSpec>,
+    /// How each tier's gain is set.
+    pub gains: Vec<TierGain>,
+    /// Months from the forecast start to the cluster's start (may be < 0).
+    pub start_offset: i32,
+    /// Its keywords.
+    pub keywords: Vec<KeywordModel>,
+    /// Central log-gain per keyword and tier (`k * tiers + t`), model tiers.
+    pub central: Vec<f64>,
+    /// Whether any tier has an explicit gain distribution.
+    pub has_explicit: bool,
+}
+
+impl ClusterModel {
+    /// Number of tiers.
+    pub fn n_tiers(&self) -> usize {
+        self.tiers.len()
+    }
+}
+
+/// The whole prepared model.
+#[derive(Debug, Clone)]
+pub struct Model {
+    /// Clusters in plan order.
+    pub clusters: Vec<ClusterModel>,
+    /// Forecast months.
+    pub months: Vec<Month>,
+    /// Search-volume season index per forecast month (mean 1 over a year).
+    pub season: Vec<f64>,
+    /// How the season indices were obtained.
+    pub seasonality: Seasonality,
+    /// Click-through curve for non-branded keywords and its lookup.
+    pub ctr: CtrCurve,
+    /// Lookup of `ctr`.
+    pub ctr_lookup: CtrLookup,
+    /// Click-through curve for branded keywords.
+    pub ctr_branded: CtrCurve,
+    /// Lookup of `ctr_branded`.
+    pub ctr_branded_lookup: CtrLookup,
+    /// The rank-gain model.
+    pub rank: RankGainModel,
+    /// Spreads of the shared factors.
+    pub factors: Factors,
+    /// Conversion, order value and margin.
+    pub economics: Economics,
+    /// Where each model came from.
+    pub origins: Vec<(String, String)>,
+}
+
+impl Model {
+    /// Number of (cluster, tier) slots.
+    pub fn slots(&self) -> usize {
+        self.clusters.iter().map(ClusterModel::n_tiers).sum()
+    }
+
+    /// Horizon in months.
+    pub fn horizon(&self) -> usize {
+        self.months.len()
+    }
+
+    /// `(cluster, tier)` of every slot, in order.
+    pub fn slot_index(&self) -> Vec<(usize, usize)> {
+        self.clusters
+            .iter()
+            .enumerate()
+            .flat_map(|(c, cl)| (0..cl.n_tiers()).map(move |t| (c, t)))
+            .collect()
+    }
+
+    /// The id `cluster/tier` (tier numbered from 1) of a slot.
+    pub fn slot_id(&self, c: usize, t: usize) -> String {
+        format!("{}/{}", self.clusters[c].name, t + 1)
+    }
+}
+
+fn model_err(e: crate::clicks::ClicksError) -> Error {
+    Error::Model {
+        origin: "model".into(),
+        message: e.to_string(),
+    }
+}
+
+/// Loads the model files the plan names.
+fn load_models(
+    inputs: &Inputs,
+) -> Result<(CtrCurve, CtrCurve, RankGainModel, Vec<(String, String)>)> {
+    let m = &inputs.plan.file.models;
+    let ctr_t = model_files::find(&inputs.plan, "ctr", m.ctr.as_deref().unwrap_or("default"))?;
+    let br_t = model_files::find(
+        &inputs.plan,
+        "ctr",
+        m.branded_ctr.as_deref().unwrap_or("branded"),
+    )?;
+    let rg_t = model_files::find(
+        &inputs.plan,
+        "rank-gain",
+        m.rank_gain.as_deref().unwrap_or("default"),
+    )?;
+    let ctr = CtrCurve::from_toml_str(&ctr_t.text, &ctr_t.origin).map_err(model_err)?;
+    let branded = CtrCurve::from_toml_str(&br_t.text, &br_t.origin).map_err(model_err)?;
+    let rank = RankGainModel::from_toml_str(&rg_t.text, &rg_t.origin).map_err(model_err)?;
+    let origins = vec![
+        ("click-through curve".into(), ctr_t.origin),
+        ("branded click-through curve".into(), br_t.origin),
+        ("rank-gain model".into(), rg_t.origin),
+    ];
+    Ok((ctr, branded, rank, origins))
+}
+
+/// The plan's economics as a typed model.
+pub fn economics(inputs: &Inputs) -> Result<Economics> {
+    let e = &inputs.plan.file.economics;
+    let v = |x: &Option<toml::Spanned<f64>>| x.as_ref().map(|s| *s.get_ref());
+    let margin = v(&e.gross_margin).unwrap_or(1.0);
+    let built = if let Some(vpc) = v(&e.value_per_click) {
+        Economics::value_per_click(vpc, margin)
+    } else {
+        let rate = match (v(&e.conversion_rate), v(&e.conversions), v(&e.sessions)) {
+            (Some(r), _, _) => ConversionRate::fixed(r),
+            (None, Some(c), Some(s)) => ConversionRate::from_counts(c, s),
+            _ => {
+                return Err(Error::Setting(
+                    "[economics] needs conversion_rate, or conversions and sessions".into(),
+                ))
+            }
+        }
+        .map_err(model_err)?;
+        let aov = v(&e.order_value)
+            .ok_or_else(|| Error::Setting("[economics] needs order_value".into()))?;
+        OrderValue::new(aov, v(&e.order_value_spread))
+            .and_then(|ov| Economics::new(rate, ov, margin))
+    };
+    built.map_err(model_err)
+}
+
+fn seasonality(inputs: &Inputs) -> Result<Seasonality> {
+    let cfg = inputs.plan.file.economics.seasonality.clone();
+    let res = match cfg {
+        None => return Ok(Seasonality::flat()),
+        Some(SeasonalityCfg::Named(n)) if n == "none" => return Ok(Seasonality::flat()),
+        Some(SeasonalityCfg::Indices(v)) => Seasonality::from_indices(&v),
+        Some(SeasonalityCfg::Named(_)) => {
+            let clicks = inputs.history.get("clicks").unwrap_or(&[]);
+            let first = inputs.history.first().map(|m| m.month()).unwrap_or(1);
+            Seasonality::from_history(clicks, first)
+        }
+    };
+    res.map_err(model_err)
+}
+
+fn tier_gains(spec: &ClusterSpec) -> Result<Vec<TierGain>> {
+    let mut effort = 0.0;
+    spec.tiers
+        .iter()
+        .map(|t| {
+            effort += t.effort;
+            match t.gain {
+                None => Ok(TierGain::Model {
+                    cumulative_effort: effort,
+                }),
+                Some(g) => explicit(g.shape, g.over, &spec.origin).map(TierGain::Explicit),
+            }
+        })
+        .collect()
+}
+
+fn explicit(shape: GainShape, over: GainOver, origin: &str) -> Result<ExplicitGain> {
+    let distribution = match shape {
+        GainShape::Triangular { min, mode, max } => GainDistribution::triangular(min, mode, max),
+        GainShape::Pert {
+            min,
+            mode,
+            max,
+            lambda,
+        } => GainDistribution::pert(min, mode, max, Some(lambda)),
+    }
+    .map_err(model_err)?;
+    let over = match over {
+        GainOver::PositionsGained => GainScale::PositionsGained,
+        GainOver::FinalPosition => GainScale::FinalPosition,
+    };
+    let g = ExplicitGain { over, distribution };
+    g.validate(origin).map_err(model_err)?;
+    Ok(g)
+}
+
+fn cluster_model(
+    inputs: &Inputs,
+    spec: &ClusterSpec,
+    rank: &RankGainModel,
+) -> Result<ClusterModel> {
+    let gains = tier_gains(spec)?;
+    let keywords: Vec<KeywordModel> = inputs
+        .keywords
+        .of_cluster(&spec.name)
+        .map(|k| {
+            let p0 = start_position(k.position);
+            KeywordModel {
+                volume: k.volume,
+                p0,
+                ln_p0: p0.ln(),
+                difficulty: k.difficulty,
+                branded: k.branded,
+                no_gain: rank.no_gain_probability(k.difficulty),
+                months_to_full: rank.months_to_full_effect(k.difficulty),
+            }
+        })
+        .collect();
+    let mut central = Vec::with_capacity(keywords.len() * gains.len());
+    for k in &keywords {
+        for g in &gains {
+            central.push(match g {
+                TierGain::Model { cumulative_effort } => {
+                    rank.expected_log_gain(*cumulative_effort, k.difficulty)
+                }
+                TierGain::Explicit(_) => 0.0,
+            });
+        }
+    }
+    Ok(ClusterModel {
+        has_explicit: gains.iter().any(|g| matches!(g, TierGain::Explicit(_))),
+        name: spec.name.clone(),
+        tiers: spec.tiers.clone(),
+        gains,
+        start_offset: spec.start.map(|s| s.since(inputs.start)).unwrap_or(0),
+        keywords,
+        central,
+    })
+}
+
+/// Prepares the model for a loaded plan.
+pub fn prepare(inputs: &Inputs) -> Result<Model> {
+    let (ctr, ctr_branded, rank, origins) = load_models(inputs)?;
+    let economics = economics(inputs)?;
+    let seasonality = seasonality(inputs)?;
+    let months: Vec<Month> = (0..inputs.plan.horizon as i32)
+        .map(|m| inputs.start.plus(m))
+        .collect();
+    let season = months
+        .iter()
+        .map(|m| seasonality.index(m.month()))
+        .collect();
+    let clusters = inputs
+        .clusters
+        .iter()
+        .map(|c| cluster_model(inputs, c, &rank))
+        .collect::<Result<Vec<_>>>()?;
+    Ok(Model {
+        clusters,
+        months,
+        season,
+        seasonality,
+        ctr_lookup: CtrLookup::new(&ctr),
+        ctr_branded_lookup: CtrLookup::new(&ctr_branded),
+        ctr,
+        ctr_branded,
+        factors: rank.factors,
+        rank,
+        economics,
+        origins,
+    })
+}
