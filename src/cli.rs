@@ -19,6 +19,13 @@ pub struct Cli {
     command: Command,
 }
 
+/// Initial states of the exponential smoothing methods.
+#[derive(Debug, Clone, Copy, ValueEnum, PartialEq, Eq)]
+pub enum InitArg {
+    Simple,
+    Estimated,
+}
+
 /// Output formats of the data commands.
 #[derive(Debug, Clone, Copy, ValueEnum, PartialEq, Eq)]
 pub enum Format {
@@ -58,6 +65,50 @@ enum Command {
     Init {
         /// Folder to create (must not already hold a plan.toml).
         dir: PathBuf,
+    },
+    /// Forecast a monthly series with no new work (the baseline).
+    Baseline {
+        /// Monthly history (month, clicks, ...).
+        #[arg(long)]
+        history: PathBuf,
+        /// Column to forecast (clicks, revenue, sessions or any numeric column).
+        #[arg(long, default_value = "clicks")]
+        column: String,
+        /// auto, linear, seasonal-naive, holt, holt-winters-additive, holt-winters-multiplicative, index-growth.
+        #[arg(long, default_value = "auto")]
+        method: String,
+        /// Months to forecast.
+        #[arg(long, default_value_t = 12)]
+        horizon: usize,
+        /// Level smoothing (fixed; estimated when absent).
+        #[arg(long)]
+        alpha: Option<f64>,
+        /// Trend smoothing (fixed; estimated when absent).
+        #[arg(long)]
+        beta: Option<f64>,
+        /// Seasonal smoothing (fixed; estimated when absent).
+        #[arg(long)]
+        gamma: Option<f64>,
+        /// Trend damping (below 1 damps the trend).
+        #[arg(long)]
+        phi: Option<f64>,
+        /// Initial states: simple (from the first seasons) or estimated.
+        #[arg(long, value_enum, default_value_t = InitArg::Simple)]
+        init: InitArg,
+        /// Search-interest index (month, index) for --method index-growth.
+        #[arg(long)]
+        index: Option<PathBuf>,
+        /// Bootstrap residuals instead of Gaussian errors for the intervals.
+        #[arg(long)]
+        bootstrap: bool,
+        /// Simulated paths behind P10/P50/P90.
+        #[arg(long, default_value_t = 10_000)]
+        paths: usize,
+        /// Seed of the interval simulation.
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
     },
     /// Central estimate per cluster and tier, with no randomness.
     Estimate {
@@ -184,6 +235,64 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             furrow::demo::validate(&opts)?;
             furrow::demo::generate(&dir, &opts)?;
             out(&format!("Wrote the demo to {}\n", dir.display()))?;
+        }
+        Command::Baseline {
+            history,
+            column,
+            method,
+            horizon,
+            alpha,
+            beta,
+            gamma,
+            phi,
+            init,
+            index,
+            bootstrap,
+            paths,
+            seed,
+            format,
+        } => {
+            use furrow::baseline::{BaselineOptions, Init, Method};
+            use furrow::inputs::monthly;
+            let opts = BaselineOptions {
+                method: Method::parse(&method)?,
+                horizon,
+                alpha,
+                beta,
+                gamma,
+                phi,
+                init: if init == InitArg::Simple {
+                    Init::Simple
+                } else {
+                    Init::Estimated
+                },
+                bootstrap,
+                paths,
+                seed,
+                ..BaselineOptions::default()
+            };
+            let no_map = Default::default();
+            let hist = monthly::read(
+                &history,
+                monthly::HISTORY_COLUMNS,
+                &no_map,
+                monthly::NON_NEGATIVE,
+            )?;
+            let idx = match &index {
+                Some(p) => Some(monthly::read(
+                    p,
+                    monthly::INDEX_COLUMNS,
+                    &no_map,
+                    monthly::INDEX_RANGE,
+                )?),
+                None => None,
+            };
+            let start = hist
+                .last()
+                .map(|m| m.plus(1))
+                .unwrap_or(furrow::month::Month::FALLBACK);
+            let b = furrow::baseline::run::run(&hist, idx.as_ref(), &column, start, &opts)?;
+            out(&furrow::output::render(&b.output, format.into())?)?;
         }
         Command::Estimate { plan, format } => {
             let inputs = furrow::inputs::load::load(&plan, &Overrides::default())?;

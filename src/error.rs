@@ -158,6 +158,9 @@ pub enum Error {
     /// The solver failed or did not reach an optimum.
     #[error("{0}")]
     Solver(String),
+    /// The baseline forecast could not be made.
+    #[error("baseline: {0}")]
+    Baseline(#[from] crate::baseline::BaselineError),
     /// No allocation satisfies the constraints.
     #[error("{message}")]
     Infeasible { message: String, min_tail_loss: f64 },
@@ -166,8 +169,13 @@ pub enum Error {
 impl Error {
     /// The documented exit code: 1 failure, 2 usage, 3 infeasible.
     pub fn exit_code(&self) -> u8 {
+        use crate::baseline::BaselineError as B;
         match self {
             Error::Infeasible { .. } => 3,
+            Error::Setting(_)
+            | Error::Baseline(
+                B::BadParameter { .. } | B::BadCount { .. } | B::UnknownMethod { .. },
+            ) => 2,
             _ => 1,
         }
     }

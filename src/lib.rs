@@ -7,6 +7,7 @@
 //! and `stress`, and `report`. The library never prints or exits; the binary
 //! in `main.rs` does.
 
+pub mod baseline;
 pub mod check;
 pub mod clicks;
 pub mod demo;
