@@ -19,6 +19,27 @@ pub struct Cli {
     command: Command,
 }
 
+#[derive(Debug, Subcommand)]
+enum CtrAction {
+    /// Fit the site's own click-through curve from a query export.
+    Fit {
+        /// Query export (query, clicks, impressions, position).
+        #[arg(long)]
+        queries: PathBuf,
+        /// Queries matching this pattern (case-insensitive) are branded and left out.
+        #[arg(long)]
+        brand: Option<String>,
+        /// Write the chosen curve here, in the models/ctr/ format.
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Bins with fewer impressions fall back to the default curve's shape.
+        #[arg(long, default_value_t = 100.0)]
+        min_impressions: f64,
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+}
+
 /// Initial states of the exponential smoothing methods.
 #[derive(Debug, Clone, Copy, ValueEnum, PartialEq, Eq)]
 pub enum InitArg {
@@ -109,6 +130,11 @@ enum Command {
         seed: u64,
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
+    },
+    /// Click-through-rate curves.
+    Ctr {
+        #[command(subcommand)]
+        action: CtrAction,
     },
     /// Central estimate per cluster and tier, with no randomness.
     Estimate {
@@ -293,6 +319,55 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 .unwrap_or(furrow::month::Month::FALLBACK);
             let b = furrow::baseline::run::run(&hist, idx.as_ref(), &column, start, &opts)?;
             out(&furrow::output::render(&b.output, format.into())?)?;
+        }
+        Command::Ctr {
+            action:
+                CtrAction::Fit {
+                    queries,
+                    brand,
+                    out: path,
+                    min_impressions,
+                    format,
+                },
+        } => {
+            use furrow::clicks::{ctr_fit, CtrCurve};
+            let rows = furrow::inputs::queries::read(&queries, &Default::default())?;
+            let rows: Vec<ctr_fit::QueryRow> = rows
+                .into_iter()
+                .map(|r| ctr_fit::QueryRow {
+                    query: r.query,
+                    clicks: r.clicks,
+                    impressions: r.impressions,
+                    position: r.position,
+                })
+                .collect();
+            let brand = brand
+                .map(|b| ctr_fit::brand_regex(&b))
+                .transpose()
+                .map_err(|e| furrow::Error::Setting(format!("--brand: {e}")))?;
+            let fallback = CtrCurve::builtin_default().map_err(|e| furrow::Error::Model {
+                origin: "built-in models/ctr/default.toml".into(),
+                message: e.to_string(),
+            })?;
+            if !(min_impressions.is_finite() && min_impressions >= 0.0) {
+                return Err(furrow::Error::Setting(format!(
+                    "--min-impressions must be a non-negative number, found {min_impressions}"
+                ))
+                .into());
+            }
+            let opts = ctr_fit::FitOptions {
+                min_impressions,
+                ..ctr_fit::FitOptions::default()
+            };
+            let fit = ctr_fit::fit(&rows, brand.as_ref(), &fallback, &opts)
+                .map_err(|e| furrow::Error::Unsupported(format!("{}: {e}", queries.display())))?;
+            if let Some(p) = &path {
+                furrow::fsio::write_text(p, &fit.curve.to_toml_string())?;
+            }
+            out(&furrow::output::render(&fit, format.into())?)?;
+            if let (Some(p), Format::Table) = (&path, format) {
+                out(&format!("Curve written to {}\n", p.display()))?;
+            }
         }
         Command::Estimate { plan, format } => {
             let inputs = furrow::inputs::load::load(&plan, &Overrides::default())?;

@@ -43,8 +43,12 @@ pub fn splitmix64(mut z: u64) -> u64 {
 pub fn stream(seed: u64, domain: u64, index: u64) -> Stream {
     let a = splitmix64(seed ^ splitmix64(domain));
     let b = splitmix64(a ^ splitmix64(index.wrapping_add(0x5851_F42D_4C95_7F2D)));
+    // Both halves of the 128-bit state depend on the index: a multiplicative
+    // congruential generator's low state bits never mix with its high ones,
+    // so a low half shared by every stream would correlate the streams.
+    let c = splitmix64(b ^ 0x2545_F491_4F6C_DD1D);
     let mut bytes = [0u8; 16];
-    bytes[..8].copy_from_slice(&a.to_le_bytes());
+    bytes[..8].copy_from_slice(&c.to_le_bytes());
     bytes[8..].copy_from_slice(&b.to_le_bytes());
     Pcg64Mcg::from_seed(bytes)
 }

@@ -95,6 +95,6 @@ mod tests {
             &[Align::Left, Align::Right],
             &[vec!["xyz".into(), "1".into()]],
         );
-        assert_eq!(t, "a     bb\n-------\nxyz    1\n");
+        assert_eq!(t, "a    bb\n-------\nxyz   1\n");
     }
 }

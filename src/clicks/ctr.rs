@@ -149,7 +149,7 @@ impl CtrCurve {
     /// 100 and for NaN (treated as not ranking); between knots, linear in
     /// log CTR.
     pub fn ctr(&self, position: f64) -> f64 {
-        if !(position <= MAX_POSITION) {
+        if position.is_nan() || position > MAX_POSITION {
             return 0.0;
         }
         let p = position.max(1.0);
@@ -249,6 +249,9 @@ pub struct CtrLookup {
     table: Vec<f64>,
     scale: f64,
     steps: usize,
+    ln_max: f64,
+    /// Largest x whose cell `floor(x)` has a right neighbour.
+    last_cell: f64,
 }
 
 impl CtrLookup {
@@ -270,13 +273,15 @@ impl CtrLookup {
             table,
             scale: steps as f64 / ln_max,
             steps,
+            ln_max,
+            last_cell: (steps - 1) as f64 + 0.999_999,
         }
     }
 
     /// CTR at `position` (same conventions as [`CtrCurve::ctr`]).
     #[inline]
     pub fn ctr(&self, position: f64) -> f64 {
-        if !(position <= MAX_POSITION) {
+        if position.is_nan() || position > MAX_POSITION {
             return 0.0;
         }
         self.ctr_ln(position.max(1.0).ln())
@@ -286,11 +291,14 @@ impl CtrLookup {
     /// model works in log-position, so the hot loop can skip the `ln`).
     #[inline]
     pub fn ctr_ln(&self, ln_position: f64) -> f64 {
-        if !(ln_position <= MAX_POSITION.ln()) {
+        if ln_position.is_nan() || ln_position > self.ln_max {
             return 0.0;
         }
-        let x = ln_position.max(0.0) * self.scale;
-        let i = (x as usize).min(self.steps - 1);
+        // Clamp in floating point first: a float-to-int cast of a value
+        // known to be in range is cheap, while a saturating `as usize` of an
+        // unknown value costs many instructions (this is the hot loop).
+        let x = (ln_position.max(0.0) * self.scale).min(self.last_cell);
+        let i = x as u32 as usize;
         let f = x - i as f64;
         let (a, b) = (self.table[i], self.table[i + 1]);
         a + (b - a) * f

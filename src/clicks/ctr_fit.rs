@@ -18,15 +18,22 @@
 //!   rise, the constrained optimum is `b = 0`).
 //!
 //! Both report their impression-weighted RMSE of CTR in sample and by
-//! leave-one-bin-out cross-validation. The isotonic fit minimises the
+//! leave-one-bin-out cross-validation over the interior bins (each interior
+//! bin predicted from a refit on all the others; the first and last bins are
+//! not held out, as predicting them would measure extrapolation, where an
+//! isotonic fit is flat by construction). The isotonic fit minimises the
 //! in-sample error over all non-increasing curves, power laws with `b >= 0`
 //! included, so it always wins in sample; the choice is therefore made on
 //! the cross-validated error (ties go to the simpler power law).
 //!
-//! The output curve follows the chosen fit between the first and last
-//! well-observed bins. Outside that range (bins with too few impressions) it
-//! follows the shape of the default curve, scaled to meet the fit at the
-//! range's end, so the result stays non-increasing.
+//! The output curve follows the chosen fit over the well-observed range:
+//! the isotonic fit between its first and last fitted points (interpolated
+//! linearly in log CTR, like a [`CtrCurve`]), the power law across the full
+//! position range of the well-observed bins (bin 1 starts at position 1).
+//! A thin bin inside that range takes the fit's value there. Outside the
+//! range, and so for the thin bins before or after it, the curve follows the
+//! shape of the default curve, scaled to meet the fit at the range's end, so
+//! the result stays non-increasing.
 
 use regex::{Regex, RegexBuilder};
 use serde::Serialize;
@@ -83,7 +90,9 @@ pub struct FitBin {
     pub mean_position: Option<f64>,
     /// Clicks over impressions.
     pub observed_ctr: Option<f64>,
-    /// Too few impressions: not fitted, the curve follows the default shape.
+    /// Too few impressions: not fitted. Inside the fitted range the curve
+    /// there comes from the fit around it; outside, from the default curve's
+    /// shape.
     pub fallback: bool,
     pub isotonic_ctr: Option<f64>,
     pub power_law_ctr: Option<f64>,
@@ -96,7 +105,8 @@ pub struct IsotonicFit {
     pub points: Vec<[f64; 2]>,
     /// Impression-weighted RMSE of CTR over the fitted bins.
     pub rmse: f64,
-    /// The same by leave-one-bin-out cross-validation (3+ bins).
+    /// The same by leave-one-bin-out cross-validation over the interior bins
+    /// (3+ bins).
     pub cv_rmse: Option<f64>,
 }
 
@@ -207,6 +217,9 @@ struct Obs {
     y: f64,
     w: f64,
     clicks: f64,
+    /// Lowest and highest average position the bin covers.
+    lo: f64,
+    hi: f64,
 }
 
 /// Counts from the first pass over the rows.
@@ -238,13 +251,13 @@ pub fn fit(
             rows: tally.non_branded,
         });
     }
-    let obs = observations(&accums, opts.min_impressions);
+    let obs = observations(&accums, opts);
     if obs.is_empty() {
         let best = accums.iter().map(|a| a.impressions).fold(0.0, f64::max);
         let min = opts.min_impressions;
         return Err(ClicksError::TooFewImpressions { best, min });
     }
-    Ok(assemble(rows.len(), &accums, &tally, &obs, fallback, opts))
+    assemble(rows.len(), &accums, &tally, &obs, fallback, opts)
 }
 
 /// Checks the fit options.
@@ -354,15 +367,21 @@ fn check_row(row: usize, r: &QueryRow) -> Result<(), ClicksError> {
 }
 
 /// The bins with at least `min` impressions, as fit data.
-fn observations(accums: &[Accum], min: f64) -> Vec<Obs> {
+fn observations(accums: &[Accum], opts: &FitOptions) -> Vec<Obs> {
     accums
         .iter()
-        .filter(|a| a.impressions > 0.0 && a.impressions >= min)
-        .map(|a| Obs {
-            x: a.position_x_impressions / a.impressions,
-            y: a.clicks / a.impressions,
-            w: a.impressions,
-            clicks: a.clicks,
+        .enumerate()
+        .filter(|(_, a)| a.impressions > 0.0 && a.impressions >= opts.min_impressions)
+        .map(|(i, a)| {
+            let (first, last) = bin_range(i, opts);
+            Obs {
+                x: a.position_x_impressions / a.impressions,
+                y: a.clicks / a.impressions,
+                w: a.impressions,
+                clicks: a.clicks,
+                lo: (f64::from(first) - 0.5).max(1.0),
+                hi: (f64::from(last) + 0.5).min(MAX_POSITION),
+            }
         })
         .collect()
 }
@@ -375,14 +394,14 @@ fn assemble(
     obs: &[Obs],
     fallback: &CtrCurve,
     opts: &FitOptions,
-) -> CtrFit {
+) -> Result<CtrFit, ClicksError> {
     let isotonic = isotonic_fit(obs);
     let power_law = power_law_fit(obs);
     let (chosen, choice_reason) = choose(&isotonic, power_law.as_ref());
-    let model = Model::new(chosen, &isotonic, power_law.as_ref());
-    let curve = output_curve(&model, obs, fallback, chosen);
+    let model = Model::new(chosen, &isotonic, power_law.as_ref(), obs);
+    let curve = output_curve(&model, obs, fallback, chosen)?;
     let bins = describe_bins(accums, opts, &isotonic, power_law.as_ref());
-    CtrFit {
+    Ok(CtrFit {
         rows,
         branded_excluded: tally.branded,
         zero_impression_rows: tally.zero_impressions,
@@ -396,7 +415,7 @@ fn assemble(
         chosen,
         choice_reason,
         curve,
-    }
+    })
 }
 
 /// Isotonic fit with its errors.
@@ -501,13 +520,14 @@ fn weighted_rmse(obs: &[Obs], predict: impl Fn(&Obs) -> f64) -> f64 {
     (sse / sw).sqrt()
 }
 
-/// Leave-one-bin-out RMSE: refit without each bin and predict it.
+/// Leave-one-bin-out RMSE over the interior bins: refit without each and
+/// predict it. None with fewer than 3 bins.
 fn cross_validate(obs: &[Obs], predict: impl Fn(&[Obs], f64) -> f64) -> Option<f64> {
     if obs.len() < 3 {
         return None;
     }
     let (mut sse, mut sw) = (0.0, 0.0);
-    for i in 0..obs.len() {
+    for i in 1..obs.len() - 1 {
         let train: Vec<Obs> = obs
             .iter()
             .enumerate()
@@ -539,16 +559,21 @@ fn choose(iso: &IsotonicFit, pow: Option<&PowerLawFit>) -> (FitKind, String) {
     }
 }
 
-/// The chosen fit as a function of position.
+/// The chosen fit as a function of position, with the range it covers.
 enum Model {
     Points(Vec<[f64; 2]>),
-    Power(f64, f64),
+    Power { a: f64, b: f64, lo: f64, hi: f64 },
 }
 
 impl Model {
-    fn new(kind: FitKind, iso: &IsotonicFit, pow: Option<&PowerLawFit>) -> Model {
+    fn new(kind: FitKind, iso: &IsotonicFit, pow: Option<&PowerLawFit>, obs: &[Obs]) -> Model {
         match (kind, pow) {
-            (FitKind::PowerLaw, Some(p)) => Model::Power(p.a, p.b),
+            (FitKind::PowerLaw, Some(p)) => Model::Power {
+                a: p.a,
+                b: p.b,
+                lo: obs.first().map_or(1.0, |o| o.lo),
+                hi: obs.last().map_or(MAX_POSITION, |o| o.hi),
+            },
             _ => Model::Points(iso.points.clone()),
         }
     }
@@ -556,14 +581,26 @@ impl Model {
     fn at(&self, p: f64) -> f64 {
         match self {
             Model::Points(points) => eval_points(points, p),
-            Model::Power(a, b) => power_law(*a, *b, p),
+            Model::Power { a, b, .. } => power_law(*a, *b, p),
+        }
+    }
+
+    /// Positions over which the fit itself is used.
+    fn range(&self) -> (f64, f64) {
+        match self {
+            Model::Points(points) => {
+                let first = points.first().map_or(1.0, |p| p[0]);
+                (first, points.last().map_or(first, |p| p[0]))
+            }
+            Model::Power { lo, hi, .. } => (*lo, *hi),
         }
     }
 }
 
-/// The fitted value at `p` inside the observed range, the fallback's shape
+/// The fitted value at `p` inside the model's range, the fallback's shape
 /// scaled to meet the fit outside it.
-fn blended(model: &Model, lo: f64, hi: f64, fallback: &CtrCurve, p: f64) -> f64 {
+fn blended(model: &Model, fallback: &CtrCurve, p: f64) -> f64 {
+    let (lo, hi) = model.range();
     let anchor = p.clamp(lo, hi);
     let y = model.at(anchor);
     if p >= lo && p <= hi {
@@ -583,9 +620,14 @@ fn blended(model: &Model, lo: f64, hi: f64, fallback: &CtrCurve, p: f64) -> f64 
 
 /// Builds the output curve: positions 1..20, then tail points at the
 /// well-observed tail bins, the fallback's tail positions and 100.
-fn output_curve(model: &Model, obs: &[Obs], fallback: &CtrCurve, kind: FitKind) -> CtrCurve {
-    let (lo, hi) = (obs[0].x, obs[obs.len() - 1].x);
-    let value = |p: f64| blended(model, lo, hi, fallback, p);
+fn output_curve(
+    model: &Model,
+    obs: &[Obs],
+    fallback: &CtrCurve,
+    kind: FitKind,
+) -> Result<CtrCurve, ClicksError> {
+    let (lo, hi) = model.range();
+    let value = |p: f64| blended(model, fallback, p);
     let head: Vec<f64> = (1..=HEAD_BINS).map(|p| value(f64::from(p))).collect();
     let mut xs: Vec<f64> = obs.iter().map(|o| o.x).collect();
     xs.extend(fallback.tail().iter().map(|t| t[0]));
@@ -604,8 +646,7 @@ fn output_curve(model: &Model, obs: &[Obs], fallback: &CtrCurve, kind: FitKind) 
         },
         fallback.description()
     );
-    let built = CtrCurve::new(&description, &source, head, tail, "fitted curve");
-    built.unwrap_or_else(|_| fallback.clone())
+    CtrCurve::new(&description, &source, head, tail, "fitted curve")
 }
 
 /// Removes rounding-level increases so the curve is exactly non-increasing.
@@ -632,30 +673,39 @@ fn describe_bins(
     accums
         .iter()
         .enumerate()
-        .map(|(i, a)| {
-            let (first, last) = bin_range(i, opts);
-            let mean = (a.impressions > 0.0).then(|| a.position_x_impressions / a.impressions);
-            let fallback = !(a.impressions > 0.0 && a.impressions >= opts.min_impressions);
-            let fitted = |v: f64| (!fallback).then_some(v);
-            FitBin {
-                label: if first == last {
-                    format!("{first}")
-                } else {
-                    format!("{first}-{last}")
-                },
-                first,
-                last,
-                queries: a.queries,
-                impressions: a.impressions,
-                clicks: a.clicks,
-                mean_position: mean,
-                observed_ctr: (a.impressions > 0.0).then(|| a.clicks / a.impressions),
-                fallback,
-                isotonic_ctr: mean.and_then(|x| fitted(eval_points(&iso.points, x))),
-                power_law_ctr: mean.and_then(|x| pow.and_then(|p| fitted(power_law(p.a, p.b, x)))),
-            }
-        })
+        .map(|(i, a)| describe_bin(bin_range(i, opts), a, opts.min_impressions, iso, pow))
         .collect()
+}
+
+/// One bin's report.
+fn describe_bin(
+    (first, last): (u32, u32),
+    a: &Accum,
+    min_impressions: f64,
+    iso: &IsotonicFit,
+    pow: Option<&PowerLawFit>,
+) -> FitBin {
+    let seen = a.impressions > 0.0;
+    let mean = seen.then(|| a.position_x_impressions / a.impressions);
+    let fallback = !(seen && a.impressions >= min_impressions);
+    let fitted = |v: f64| (!fallback).then_some(v);
+    FitBin {
+        label: if first == last {
+            format!("{first}")
+        } else {
+            format!("{first}-{last}")
+        },
+        first,
+        last,
+        queries: a.queries,
+        impressions: a.impressions,
+        clicks: a.clicks,
+        mean_position: mean,
+        observed_ctr: seen.then(|| a.clicks / a.impressions),
+        fallback,
+        isotonic_ctr: mean.and_then(|x| fitted(eval_points(&iso.points, x))),
+        power_law_ctr: mean.and_then(|x| pow.and_then(|p| fitted(power_law(p.a, p.b, x)))),
+    }
 }
 
 /// Rounded positions covered by bin `i`.

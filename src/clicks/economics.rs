@@ -25,7 +25,7 @@
 use serde::Serialize;
 
 use super::sampling::{clamp_unit, uniform, BetaParams, LogNormalParams};
-use super::{check_range, invalid, ClicksError};
+use super::{check_non_negative, check_range, invalid, ClicksError};
 use crate::rng::Stream;
 
 /// Where a conversion rate comes from.
@@ -142,7 +142,7 @@ impl ConversionRate {
         }
         let r = self.mean();
         let sd = fixed_cv * r;
-        if !(sd > 0.0) || r <= 0.0 || r >= 1.0 {
+        if sd.is_nan() || sd <= 0.0 || r <= 0.0 || r >= 1.0 {
             return Ok(RateDistribution::Point(r));
         }
         BetaParams::from_mean_sd(r, sd)
@@ -342,7 +342,7 @@ impl Seasonality {
         }
         for (i, &v) in indices.iter().enumerate() {
             let key = format!("seasonality month {}", i + 1);
-            check_range("plan", &key, v, 0.0, f64::MAX, "an index, 0 or more")?;
+            check_non_negative("plan", &key, v, "a seasonal index")?;
         }
         normalised(indices, SeasonalityMethod::Given)
             .ok_or_else(|| invalid("plan", "seasonality", 0.0, "indices that are not all 0"))
@@ -362,14 +362,7 @@ impl Seasonality {
             return Err(short(12));
         }
         for (i, &v) in values.iter().enumerate() {
-            check_range(
-                "history",
-                &format!("month {}", i + 1),
-                v,
-                0.0,
-                f64::MAX,
-                "clicks, 0 or more",
-            )?;
+            check_non_negative("history", &format!("month {}", i + 1), v, "a monthly value")?;
         }
         let start = (first_month.max(1) as usize - 1) % 12;
         let (ratios, method) = if values.len() >= 24 {
@@ -419,7 +412,7 @@ fn classical_ratios(y: &[f64], start: usize) -> Option<Vec<f64>> {
     let (mut sum, mut count) = ([0.0; 12], [0usize; 12]);
     for t in 6..y.len() - 6 {
         let ma = (0.5 * y[t - 6] + y[t - 5..=t + 5].iter().sum::<f64>() + 0.5 * y[t + 6]) / 12.0;
-        if !(ma > 0.0) {
+        if ma.is_nan() || ma <= 0.0 {
             return None;
         }
         let m = (start + t) % 12;
@@ -433,7 +426,7 @@ fn classical_ratios(y: &[f64], start: usize) -> Option<Vec<f64>> {
 fn ratio_to_mean(y: &[f64], start: usize) -> Option<Vec<f64>> {
     let first = y.len() - 12;
     let mean = y[first..].iter().sum::<f64>() / 12.0;
-    if !(mean > 0.0) {
+    if mean.is_nan() || mean <= 0.0 {
         return None;
     }
     let mut out = vec![0.0; 12];

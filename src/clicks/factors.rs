@@ -19,7 +19,8 @@
 //! - order value: lognormal with the plan's mean and spread, or relative
 //!   spread `order_value_cv` when the plan gives none.
 //!
-//! With every spread at zero and `shock_probability = 0`, a draw equals
+//! With every spread at zero and `shock_probability = 0`, a
+//! [`SiteSampler::draw`] equals
 //! [`Factors::expected_site`] exactly in every field that enters a result
 //! (`shock_month_share` is still drawn but only matters when a shock hits;
 //! a conversion rate given as counts keeps its posterior spread, which is
@@ -27,9 +28,9 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::economics::Economics;
+use super::economics::{Economics, RateDistribution};
 use super::sampling::{standard_normal, uniform, LogNormalParams};
-use super::{check_range, ClicksError};
+use super::{check_ranges, ClicksError, Range};
 use crate::rng::Stream;
 
 /// Spreads of the shared factors: `[factors]` in the model file.
@@ -72,70 +73,18 @@ pub struct SiteDraw {
 impl Factors {
     /// Checks every spread's range.
     pub fn validate(&self, origin: &str) -> Result<(), ClicksError> {
-        check_range(
-            origin,
-            "factors.execution_sigma",
-            self.execution_sigma,
-            0.0,
-            3.0,
-            "lognormal sigma",
-        )?;
-        check_range(
-            origin,
-            "factors.shock_probability",
-            self.shock_probability,
-            0.0,
-            1.0,
-            "probability",
-        )?;
-        check_range(
-            origin,
-            "factors.shock_log_loss",
-            self.shock_log_loss,
-            0.0,
-            5.0,
-            "log-position loss",
-        )?;
-        check_range(
-            origin,
-            "factors.ctr_erosion_mean",
-            self.ctr_erosion_mean,
-            -0.9,
-            0.9,
-            "relative CTR fall",
-        )?;
-        check_range(
-            origin,
-            "factors.ctr_erosion_sd",
-            self.ctr_erosion_sd,
-            0.0,
-            2.0,
-            "standard deviation",
-        )?;
-        check_range(
-            origin,
-            "factors.volume_drift_sd",
-            self.volume_drift_sd,
-            0.0,
-            2.0,
-            "standard deviation",
-        )?;
-        check_range(
-            origin,
-            "factors.conversion_rate_cv",
-            self.conversion_rate_cv,
-            0.0,
-            2.0,
-            "relative spread",
-        )?;
-        check_range(
-            origin,
-            "factors.order_value_cv",
-            self.order_value_cv,
-            0.0,
-            5.0,
-            "relative spread",
-        )
+        #[rustfmt::skip]
+        let rows: [Range; 8] = [
+            ("factors.execution_sigma", self.execution_sigma, 0.0, 3.0, "lognormal sigma"),
+            ("factors.shock_probability", self.shock_probability, 0.0, 1.0, "probability"),
+            ("factors.shock_log_loss", self.shock_log_loss, 0.0, 5.0, "log-position loss"),
+            ("factors.ctr_erosion_mean", self.ctr_erosion_mean, -0.9, 0.9, "relative CTR fall"),
+            ("factors.ctr_erosion_sd", self.ctr_erosion_sd, 0.0, 2.0, "standard deviation"),
+            ("factors.volume_drift_sd", self.volume_drift_sd, 0.0, 2.0, "standard deviation"),
+            ("factors.conversion_rate_cv", self.conversion_rate_cv, 0.0, 2.0, "relative spread"),
+            ("factors.order_value_cv", self.order_value_cv, 0.0, 5.0, "relative spread"),
+        ];
+        check_ranges(origin, &rows)
     }
 
     /// A cluster's execution factor at standard-normal draw `z` (median 1).
@@ -166,30 +115,61 @@ impl Factors {
         }
     }
 
-    /// Draws one future's site-wide factors, always six draws in this order:
-    /// shock, shock month, CTR, volume, conversion rate, order value.
-    pub fn draw_site(
-        &self,
-        economics: &Economics,
-        rng: &mut Stream,
-    ) -> Result<SiteDraw, ClicksError> {
+    /// Builds the per-future sampler for these spreads and `economics`,
+    /// checking once that every distribution can be formed (a conversion
+    /// rate's relative spread can be too wide for a Beta).
+    pub fn site_sampler(&self, economics: &Economics) -> Result<SiteSampler, ClicksError> {
+        Ok(SiteSampler {
+            shock_probability: self.shock_probability,
+            shock_log_loss: self.shock_log_loss,
+            ctr: self.ctr_factor()?,
+            volume: self.volume_factor()?,
+            conversion: economics
+                .conversion_rate
+                .distribution(self.conversion_rate_cv)?,
+            order_value: economics.order_value.distribution(self.order_value_cv)?,
+            expected: self.expected_site(economics),
+        })
+    }
+}
+
+/// Draws the site-wide factors of one future; built by
+/// [`Factors::site_sampler`].
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SiteSampler {
+    shock_probability: f64,
+    shock_log_loss: f64,
+    ctr: LogNormalParams,
+    volume: LogNormalParams,
+    conversion: RateDistribution,
+    order_value: LogNormalParams,
+    expected: SiteDraw,
+}
+
+impl SiteSampler {
+    /// The values `estimate` uses (see [`Factors::expected_site`]).
+    pub fn expected(&self) -> SiteDraw {
+        self.expected
+    }
+
+    /// Draws one future's factors, always six draws in this order: shock,
+    /// shock month, CTR, volume, conversion rate (by inverse CDF), order
+    /// value.
+    pub fn draw(&self, rng: &mut Stream) -> SiteDraw {
         let shock = uniform(rng) < self.shock_probability;
         let shock_month_share = uniform(rng);
-        let ctr_factor = self.ctr_factor()?.at(standard_normal(rng));
-        let volume_factor = self.volume_factor()?.at(standard_normal(rng));
-        let conversion = economics
-            .conversion_rate
-            .distribution(self.conversion_rate_cv)?;
-        let conversion_rate = conversion.quantile(uniform(rng));
-        let order_value = economics.order_value.distribution(self.order_value_cv)?;
-        Ok(SiteDraw {
+        let ctr_factor = self.ctr.at(standard_normal(rng));
+        let volume_factor = self.volume.at(standard_normal(rng));
+        let conversion_rate = self.conversion.quantile(uniform(rng));
+        let order_value = self.order_value.at(standard_normal(rng));
+        SiteDraw {
             shock,
             shock_log_loss: if shock { self.shock_log_loss } else { 0.0 },
             shock_month_share,
             ctr_factor,
             volume_factor,
             conversion_rate,
-            order_value: order_value.at(standard_normal(rng)),
-        })
+            order_value,
+        }
     }
 }

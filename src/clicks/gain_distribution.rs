@@ -152,7 +152,7 @@ impl GainDistribution {
             return None;
         };
         let width = max - min;
-        if !(width > 0.0) {
+        if width.is_nan() || width <= 0.0 {
             return None;
         }
         let alpha = 1.0 + lambda * (mode - min) / width;
@@ -185,7 +185,7 @@ impl GainDistribution {
 /// `b - sqrt((1-u)(b-a)(b-c))`.
 fn triangular_quantile(a: f64, c: f64, b: f64, u: f64) -> f64 {
     let width = b - a;
-    if !(width > 0.0) {
+    if width.is_nan() || width <= 0.0 {
         return a;
     }
     let fc = (c - a) / width;

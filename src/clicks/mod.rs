@@ -15,6 +15,7 @@ pub mod ctr;
 pub mod ctr_fit;
 pub mod economics;
 pub mod factors;
+pub mod fit_output;
 pub mod gain_distribution;
 pub mod rank_gain;
 pub mod sampling;
@@ -25,7 +26,7 @@ pub use economics::{
     incremental_clicks, monthly_money, return_on_spend, roi, ConversionRate, Economics, Money,
     OrderValue, Seasonality,
 };
-pub use factors::{Factors, SiteDraw};
+pub use factors::{Factors, SiteDraw, SiteSampler};
 pub use gain_distribution::{ExplicitGain, GainDistribution, GainScale};
 pub use rank_gain::{position_after, KeywordDraws, RankGainModel};
 
@@ -117,4 +118,32 @@ pub(crate) fn check_range(
             &format!("a number from {lo} to {hi} ({meaning})"),
         ))
     }
+}
+
+/// Checks that `value` is finite and 0 or more.
+pub(crate) fn check_non_negative(
+    origin: &str,
+    key: &str,
+    value: f64,
+    meaning: &str,
+) -> Result<(), ClicksError> {
+    if value.is_finite() && value >= 0.0 {
+        Ok(())
+    } else {
+        Err(invalid(
+            origin,
+            key,
+            value,
+            &format!("{meaning}, 0 or more"),
+        ))
+    }
+}
+
+/// One row of a range table: key, value, lowest, highest, meaning.
+pub(crate) type Range<'a> = (&'a str, f64, f64, f64, &'a str);
+
+/// Checks a table of ranges in order, stopping at the first failure.
+pub(crate) fn check_ranges(origin: &str, rows: &[Range]) -> Result<(), ClicksError> {
+    rows.iter()
+        .try_for_each(|&(key, v, lo, hi, meaning)| check_range(origin, key, v, lo, hi, meaning))
 }

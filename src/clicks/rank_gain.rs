@@ -6,8 +6,8 @@
 //! The gain is an improvement `D` in log-position:
 //! `p_new = max(1, p0 * exp(-D))`, with `p0 = 100` for a keyword not ranking.
 //!
-//! - Central gain: `D_c = max_log_gain * (1 - exp(-effort_rate * effort))
-//!   * (1 - difficulty/100)^difficulty_exponent`, where `effort` is the
+//! - Central gain: `D_c = max_log_gain * (1 - exp(-effort_rate * effort)) *
+//!   (1 - difficulty/100)^difficulty_exponent`, where `effort` is the
 //!   tier's cumulative effort (the sum of the effort levels of the tiers up to
 //!   it). Each further unit of effort adds less (diminishing returns);
 //!   harder keywords gain less.
@@ -37,7 +37,7 @@ use serde::{Deserialize, Serialize};
 
 use super::factors::Factors;
 use super::sampling::{standard_normal, uniform};
-use super::{check_range, ClicksError};
+use super::{check_ranges, ClicksError, Range};
 use crate::rng::Stream;
 
 /// Position assumed for a keyword not in the top 100.
@@ -185,74 +185,22 @@ impl RankGainModel {
 
     /// Checks every constant's range.
     pub fn validate(&self, origin: &str) -> Result<(), ClicksError> {
-        let g = &self.gain;
-        check_range(
-            origin,
-            "gain.max_log_gain",
-            g.max_log_gain,
-            0.0,
-            10.0,
-            "log-position gain; 4.6 takes 100 to 1",
-        )?;
-        check_range(
-            origin,
-            "gain.effort_rate",
-            g.effort_rate,
-            1e-6,
-            100.0,
-            "per unit of effort",
-        )?;
-        check_range(
-            origin,
-            "gain.difficulty_exponent",
-            g.difficulty_exponent,
-            0.0,
-            10.0,
-            "exponent",
-        )?;
-        check_range(
-            origin,
-            "gain.noise_sigma",
-            g.noise_sigma,
-            0.0,
-            3.0,
-            "lognormal sigma",
-        )?;
-        let n = &self.no_gain;
-        check_range(origin, "no_gain.base", n.base, 0.0, 1.0, "probability")?;
-        check_range(
-            origin,
-            "no_gain.per_difficulty",
-            n.per_difficulty,
-            0.0,
-            1.0 - n.base,
-            "probability; base + per_difficulty at most 1",
-        )?;
-        let t = &self.timing;
-        check_range(
-            origin,
-            "timing.easy_months",
-            t.easy_months,
-            0.1,
-            120.0,
-            "months",
-        )?;
-        check_range(
-            origin,
-            "timing.hard_months",
-            t.hard_months,
-            t.easy_months,
-            120.0,
-            "months, at least easy_months",
-        )?;
-        check_range(
-            origin,
-            "timing.noise_sigma",
-            t.noise_sigma,
-            0.0,
-            3.0,
-            "lognormal sigma",
-        )?;
+        let (g, n, t) = (&self.gain, &self.no_gain, &self.timing);
+        #[rustfmt::skip]
+        let rows: [Range; 9] = [
+            ("gain.max_log_gain", g.max_log_gain, 0.0, 10.0, "log-position gain; 4.6 takes 100 to 1"),
+            ("gain.effort_rate", g.effort_rate, 1e-6, 100.0, "per unit of effort"),
+            ("gain.difficulty_exponent", g.difficulty_exponent, 0.0, 10.0, "exponent"),
+            ("gain.noise_sigma", g.noise_sigma, 0.0, 3.0, "lognormal sigma"),
+            ("no_gain.base", n.base, 0.0, 1.0, "probability"),
+            ("no_gain.per_difficulty", n.per_difficulty, 0.0, 1.0 - n.base,
+                "probability; base + per_difficulty at most 1"),
+            ("timing.easy_months", t.easy_months, 0.1, 120.0, "months"),
+            ("timing.hard_months", t.hard_months, t.easy_months, 120.0,
+                "months, at least easy_months"),
+            ("timing.noise_sigma", t.noise_sigma, 0.0, 3.0, "lognormal sigma"),
+        ];
+        check_ranges(origin, &rows)?;
         self.factors.validate(origin)
     }
 
@@ -293,14 +241,12 @@ impl RankGainModel {
     /// start: 0 before the start (and for NaN), 1 from `months_to_full` on,
     /// linear or smoothstep in between; non-decreasing.
     pub fn ramp(&self, months_since_start: f64, months_to_full: f64) -> f64 {
-        if !(months_since_start > 0.0) {
-            return if months_since_start == 0.0 && !(months_to_full > 0.0) {
-                1.0
-            } else {
-                0.0
-            };
+        let started = months_since_start >= 0.0;
+        let instant = months_to_full.is_nan() || months_to_full <= 0.0;
+        if !started {
+            return 0.0;
         }
-        if !(months_to_full > 0.0) {
+        if instant {
             return 1.0;
         }
         let s = (months_since_start / months_to_full).min(1.0);
@@ -310,8 +256,8 @@ impl RankGainModel {
         }
     }
 
-    /// One keyword's gain `D` given its draws: `D_c * execution * exp(noise_sigma
-    /// * z_noise)`. With `z_noise = 0` and `execution = 1` it is exactly
+    /// One keyword's gain `D` given its draws:
+    /// `D_c * execution * exp(noise_sigma * z_noise)`. With `z_noise = 0` and `execution = 1` it is exactly
     /// [`RankGainModel::expected_log_gain`]. A negative or NaN execution
     /// factor counts as 0.
     pub fn log_gain_draw(

@@ -120,19 +120,17 @@ pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
         .unwrap_or(0);
     let mut clicks = vec![0f32; opts.scenarios * n * h];
     let mut execution = vec![0f32; opts.scenarios * nc];
-    let site: Vec<SiteDraw> = (0..opts.scenarios)
-        .into_par_iter()
-        .map(|s| {
-            model.factors.draw_site(
-                &model.economics,
-                &mut stream(opts.seed, domain::SITE, s as u64),
-            )
-        })
-        .collect::<std::result::Result<_, _>>()
+    let sampler = model
+        .factors
+        .site_sampler(&model.economics)
         .map_err(|e| Error::Model {
             origin: "factors".into(),
             message: e.to_string(),
         })?;
+    let site: Vec<SiteDraw> = (0..opts.scenarios)
+        .into_par_iter()
+        .map(|s| sampler.draw(&mut stream(opts.seed, domain::SITE, s as u64)))
+        .collect();
     let done = std::sync::atomic::AtomicUsize::new(0);
     let chunk = (n * h).max(1);
     clicks

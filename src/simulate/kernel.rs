@@ -97,25 +97,29 @@ pub fn add_keyword(
     } else {
         0.0
     };
+    let first = ramp.iter().position(|&r| r > 0.0).unwrap_or(h);
     for t in 0..c.n_tiers() {
         let d = tier_gain(c, k, t, kw, draws, exec, luck);
         if d == 0.0 {
             continue;
         }
         let row = &mut acc[t * h..(t + 1) * h];
-        for m in 0..h {
-            if ramp[m] <= 0.0 {
-                continue;
+        // Once the ramp is complete the position stops moving: reuse the
+        // last look-up while neither the ramp nor the shock changes.
+        let (mut last_r, mut last_shock, mut last_delta) = (f64::NAN, f64::NAN, 0.0);
+        for m in first..h {
+            let (r, shock) = (ramp[m], ctx.shock[m]);
+            if r != last_r || shock != last_shock {
+                let base = kw.ln_p0 + shock;
+                let ctr_old = if shock == 0.0 {
+                    ctr0
+                } else {
+                    lookup.ctr_ln(base)
+                };
+                last_delta = lookup.ctr_ln(base - r * d) - ctr_old;
+                (last_r, last_shock) = (r, shock);
             }
-            let shock = ctx.shock[m];
-            let base = kw.ln_p0 + shock;
-            let ctr_old = if shock == 0.0 {
-                ctr0
-            } else {
-                lookup.ctr_ln(base)
-            };
-            let ctr_new = lookup.ctr_ln(base - ramp[m] * d);
-            row[m] += kw.volume * model.season[m] * (ctr_new - ctr_old);
+            row[m] += kw.volume * model.season[m] * last_delta;
         }
     }
 }
