@@ -9,7 +9,7 @@
 //! Carlo, so with every spread set to zero the simulation equals it.
 
 use crate::clicks::{return_on_spend, roi, KeywordDraws};
-use crate::simulate::kernel::{add_keyword, FutureContext};
+use crate::simulate::kernel::{add_keyword, FutureContext, KernelScratch};
 use crate::simulate::model::{Model, TierGain};
 use serde::Serialize;
 
@@ -75,7 +75,7 @@ pub fn central_clicks(model: &Model) -> Vec<Vec<f64>> {
     let ctx = FutureContext::calm(h);
     let site = model.factors.expected_site(&model.economics);
     let scale = site.ctr_factor * site.volume_factor;
-    let mut ramp = vec![0.0; h];
+    let mut scratch = KernelScratch::new(h);
     model
         .clusters
         .iter()
@@ -85,7 +85,7 @@ pub fn central_clicks(model: &Model) -> Vec<Vec<f64>> {
             let mut one = vec![0.0; nt * h];
             for (k, kw) in c.keywords.iter().enumerate() {
                 one.fill(0.0);
-                add_keyword(model, c, k, &CENTRAL_DRAWS, 1.0, &ctx, &mut ramp, &mut one);
+                add_keyword(model, c, k, &CENTRAL_DRAWS, 1.0, &ctx, &mut scratch, &mut one);
                 for t in 0..nt {
                     let w = match c.gains[t] {
                         TierGain::Model { .. } => 1.0 - kw.no_gain,

@@ -9,7 +9,7 @@
 //! future's incremental clicks per (cluster, tier, month) as f32 (tier
 //! gains cumulative: tier t includes the tiers below it).
 
-use super::kernel::{add_keyword, FutureContext};
+use super::kernel::{add_keyword, FutureContext, KernelScratch};
 use super::model::Model;
 use crate::clicks::sampling::standard_normal;
 use crate::clicks::{KeywordDraws, SiteDraw};
@@ -103,7 +103,7 @@ pub fn default_memory_limit() -> u64 {
 }
 
 struct Scratch {
-    ramp: Vec<f64>,
+    kernel: KernelScratch,
     acc: Vec<f64>,
 }
 
@@ -139,7 +139,7 @@ pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
         .enumerate()
         .for_each_init(
             || Scratch {
-                ramp: vec![0.0; h],
+                kernel: KernelScratch::new(h),
                 acc: vec![0.0; max_tiers * h],
             },
             |scratch, (s, (out, exec_out))| {
@@ -201,7 +201,7 @@ fn one_future_generic<T: Copy>(
         acc.fill(0.0);
         for k in 0..cl.keywords.len() {
             let draws = KeywordDraws::draw(&mut rng);
-            add_keyword(model, cl, k, &draws, exec, &ctx, &mut sc.ramp, acc);
+            add_keyword(model, cl, k, &draws, exec, &ctx, &mut sc.kernel, acc);
         }
         for (o, a) in out[slot * h..(slot + nt) * h].iter_mut().zip(acc.iter()) {
             *o = store(a * scale);
@@ -222,7 +222,7 @@ pub fn future_f64(model: &Model, seed: u64, s: usize, site: &SiteDraw) -> Vec<f6
         .max()
         .unwrap_or(0);
     let mut scratch = Scratch {
-        ramp: vec![0.0; h],
+        kernel: KernelScratch::new(h),
         acc: vec![0.0; max_tiers * h],
     };
     let mut out = vec![0f64; model.slots() * h];

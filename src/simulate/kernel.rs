@@ -59,9 +59,25 @@ fn tier_gain(
     }
 }
 
+/// Per-month scratch space of the kernel, reused across keywords so the
+/// keyword loop allocates nothing.
+#[derive(Debug, Clone)]
+pub struct KernelScratch {
+    ramp: Vec<f64>,
+    base: Vec<f64>,
+    old: Vec<f64>,
+    weight: Vec<f64>,
+}
+
+impl KernelScratch {
+    /// Scratch for `horizon` months.
+    pub fn new(horizon: usize) -> KernelScratch {
+        KernelScratch { ramp: vec![0.0; horizon], base: vec![0.0; horizon], old: vec![0.0; horizon], weight: vec![0.0; horizon] }
+    }
+}
+
 /// Adds keyword `k`'s incremental clicks for every tier and month to `acc`
-/// (`tiers x horizon`, row per tier, tier gains cumulative). `ramp` is
-/// scratch space of `horizon` values. Returns false when it adds nothing.
+/// (`tiers x horizon`, row per tier, tier gains cumulative).
 #[allow(clippy::too_many_arguments)]
 pub fn add_keyword(
     model: &Model,
@@ -70,56 +86,39 @@ pub fn add_keyword(
     draws: &KeywordDraws,
     exec: f64,
     ctx: &FutureContext,
-    ramp: &mut [f64],
+    sc: &mut KernelScratch,
     acc: &mut [f64],
 ) {
     let kw = &c.keywords[k];
-    let h = ramp.len();
+    let h = sc.ramp.len();
     let gains = draws.u_no_gain >= kw.no_gain;
     if !gains && !c.has_explicit {
         return;
     }
     let months_full = kw.months_to_full * (model.rank.timing.noise_sigma * draws.z_time).exp();
-    for (m, r) in ramp.iter_mut().enumerate() {
-        let since = m as f64 - c.start_offset as f64 + 0.5;
-        *r = model.rank.ramp(since, months_full);
-    }
-    let lookup = if kw.branded {
-        &model.ctr_branded_lookup
-    } else {
-        &model.ctr_lookup
-    };
+    let first_since = 0.5 - c.start_offset as f64;
+    let first = (0..h).find(|&m| first_since + m as f64 > 0.0).unwrap_or(h);
+    let lookup = if kw.branded { &model.ctr_branded_lookup } else { &model.ctr_lookup };
     let ctr0 = lookup.ctr_ln(kw.ln_p0);
+    for m in first..h {
+        sc.ramp[m] = model.rank.ramp(first_since + m as f64, months_full);
+        let shock = ctx.shock[m];
+        sc.base[m] = kw.ln_p0 + shock;
+        sc.old[m] = if shock == 0.0 { ctr0 } else { lookup.ctr_ln(sc.base[m]) };
+        sc.weight[m] = kw.volume * model.season[m];
+    }
     // The keyword's luck and its cluster's execution, shared by every tier
     // (0 when it gains nothing under the model).
-    let luck = if gains {
-        exec.max(0.0) * (model.rank.gain.noise_sigma * draws.z_gain).exp()
-    } else {
-        0.0
-    };
-    let first = ramp.iter().position(|&r| r > 0.0).unwrap_or(h);
+    let luck = if gains { exec.max(0.0) * (model.rank.gain.noise_sigma * draws.z_gain).exp() } else { 0.0 };
     for t in 0..c.n_tiers() {
         let d = tier_gain(c, k, t, kw, draws, exec, luck);
         if d == 0.0 {
             continue;
         }
-        let row = &mut acc[t * h..(t + 1) * h];
-        // Once the ramp is complete the position stops moving: reuse the
-        // last look-up while neither the ramp nor the shock changes.
-        let (mut last_r, mut last_shock, mut last_delta) = (f64::NAN, f64::NAN, 0.0);
-        for m in first..h {
-            let (r, shock) = (ramp[m], ctx.shock[m]);
-            if r != last_r || shock != last_shock {
-                let base = kw.ln_p0 + shock;
-                let ctr_old = if shock == 0.0 {
-                    ctr0
-                } else {
-                    lookup.ctr_ln(base)
-                };
-                last_delta = lookup.ctr_ln(base - r * d) - ctr_old;
-                (last_r, last_shock) = (r, shock);
-            }
-            row[m] += kw.volume * model.season[m] * last_delta;
+        let row = &mut acc[t * h + first..(t + 1) * h];
+        let months = sc.ramp[first..].iter().zip(&sc.base[first..]).zip(&sc.old[first..]).zip(&sc.weight[first..]);
+        for (cell, (((r, b), o), w)) in row.iter_mut().zip(months) {
+            *cell += w * (lookup.ctr_ln(b - r * d) - o);
         }
     }
 }
