@@ -10,6 +10,7 @@
 pub mod check;
 pub mod clicks;
 pub mod demo;
+pub mod drivers;
 pub mod error;
 pub mod estimate;
 pub mod fsio;
@@ -23,6 +24,9 @@ pub mod report;
 pub mod rng;
 pub mod simulate;
 pub mod stats;
+pub mod stress;
+pub mod target;
 pub mod text;
+pub mod track;
 
 pub use error::{Error, Result};
