@@ -11,6 +11,7 @@ pub mod baseline;
 pub mod check;
 pub mod clicks;
 pub mod demo;
+pub mod drivers;
 pub mod error;
 pub mod estimate;
 pub mod fsio;
@@ -24,6 +25,9 @@ pub mod report;
 pub mod rng;
 pub mod simulate;
 pub mod stats;
+pub mod stress;
+pub mod target;
 pub mod text;
+pub mod track;
 
 pub use error::{Error, Result};

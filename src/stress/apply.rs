@@ -1,0 +1,225 @@
+//! Applying a preset to the prepared model and to the baseline paths.
+//!
+//! - `ctr_scale` k: the click-through factor's mean `1 − e` becomes
+//!   `k(1 − e)` (its standard deviation is kept), so with the same seed
+//!   every future's factor is lower.
+//! - `time_scale`: every keyword's central months to full effect.
+//! - `gain_share`, `gain_scale`: `round(share × clusters)` clusters (at
+//!   least one when the share is above 0), picked by a Fisher–Yates shuffle
+//!   from the stream (seed, [`STRESS_DOMAIN`], 0), get their central
+//!   log-position gains scaled; an explicit tier over positions gained has
+//!   its min, mode and max scaled; an explicit tier over the final position
+//!   is left as stated (a note says so).
+//! - `volume_scale`: every keyword's monthly search volume.
+//! - `conversion_scale`: a plain rate `r` becomes `min(1, k r)`; a rate
+//!   from counts keeps its sessions and scales the conversions, so its
+//!   posterior mean `(k c + 1)/(n + 2)` moves by the same share up to
+//!   `(1 − k)/(n + 2)`. For a value per click (conversion rate 1) the value
+//!   is scaled instead.
+//! - `order_value_scale`: the order value's mean and spread.
+//! - `shock_probability`, `shock_log_loss`: replace the factors' values.
+//! - Baseline paths: multiplied by `[baseline] scale`, by default
+//!   `ctr_scale × volume_scale` (existing clicks also come from volume
+//!   times click-through rate; slower gains, a ranking shock on new work
+//!   and weaker conversion leave the baseline's clicks unchanged, though
+//!   weaker conversion lowers its revenue through the revenue per click).
+
+use super::{StressPreset, STRESS_DOMAIN};
+use crate::clicks::{
+    ConversionRate, Economics, ExplicitGain, GainDistribution, GainScale, OrderValue,
+};
+use crate::rng::stream;
+use crate::simulate::model::TierGain;
+use crate::simulate::{Futures, Model, RunOptions};
+use rand::RngExt;
+
+/// The clusters (indices) a preset's ranking shock hits among `n`.
+pub fn shocked_clusters(preset: &StressPreset, n: usize, seed: u64) -> Vec<usize> {
+    let share = preset.model.gain_share;
+    if share.is_nan() || share <= 0.0 || n == 0 || preset.model.gain_scale == 1.0 {
+        return Vec::new();
+    }
+    let k = ((share * n as f64).round() as usize).clamp(1, n);
+    let mut order: Vec<usize> = (0..n).collect();
+    let mut rng = stream(seed, STRESS_DOMAIN, 0);
+    for i in (1..n).rev() {
+        let j = rng.random_range(0..=i);
+        order.swap(i, j);
+    }
+    let mut hit = order[..k].to_vec();
+    hit.sort_unstable();
+    hit
+}
+
+fn scale_distribution(d: GainDistribution, k: f64) -> GainDistribution {
+    match d {
+        GainDistribution::Triangular { min, mode, max } => GainDistribution::Triangular {
+            min: min * k,
+            mode: mode * k,
+            max: max * k,
+        },
+        GainDistribution::Pert {
+            min,
+            mode,
+            max,
+            lambda,
+        } => GainDistribution::Pert {
+            min: min * k,
+            mode: mode * k,
+            max: max * k,
+            lambda,
+        },
+    }
+}
+
+fn scale_gains(model: &mut Model, c: usize, k: f64) {
+    let cl = &mut model.clusters[c];
+    for g in &mut cl.central {
+        *g *= k;
+    }
+    for g in &mut cl.gains {
+        if let TierGain::Explicit(e) = g {
+            if e.over == GainScale::PositionsGained {
+                *e = ExplicitGain {
+                    over: e.over,
+                    distribution: scale_distribution(e.distribution, k),
+                };
+            }
+        }
+    }
+}
+
+fn scale_economics(e: &Economics, conversion: f64, order_value: f64) -> Economics {
+    let per_click = matches!(e.conversion_rate, ConversionRate::Fixed(r) if r == 1.0);
+    let (conv, ov) = if per_click {
+        (1.0, order_value * conversion)
+    } else {
+        (conversion, order_value)
+    };
+    let conversion_rate = match e.conversion_rate {
+        ConversionRate::Fixed(r) => ConversionRate::Fixed((r * conv).clamp(0.0, 1.0)),
+        ConversionRate::Counts {
+            conversions,
+            sessions,
+        } => ConversionRate::Counts {
+            conversions: (conversions * conv).min(sessions),
+            sessions,
+        },
+    };
+    Economics {
+        conversion_rate,
+        order_value: OrderValue {
+            mean: e.order_value.mean * ov,
+            sd: e.order_value.sd.map(|s| s * ov),
+        },
+        margin: e.margin,
+    }
+}
+
+/// The model under `preset`; `seed` picks the clusters a ranking shock hits.
+pub fn apply(preset: &StressPreset, model: &Model, seed: u64) -> Model {
+    let c = &preset.model;
+    let mut m = model.clone();
+    let f = &mut m.factors;
+    f.ctr_erosion_mean = 1.0 - c.ctr_scale * (1.0 - f.ctr_erosion_mean);
+    if let Some(p) = c.shock_probability {
+        f.shock_probability = p;
+    }
+    if let Some(l) = c.shock_log_loss {
+        f.shock_log_loss = l;
+    }
+    m.rank.factors = m.factors;
+    for cl in &mut m.clusters {
+        for k in &mut cl.keywords {
+            k.volume *= c.volume_scale;
+            k.months_to_full *= c.time_scale;
+        }
+    }
+    for i in shocked_clusters(preset, m.clusters.len(), seed) {
+        scale_gains(&mut m, i, c.gain_scale);
+    }
+    m.economics = scale_economics(&m.economics, c.conversion_scale, c.order_value_scale);
+    m
+}
+
+/// The multiplier of the baseline paths under `preset`.
+pub fn baseline_scale(preset: &StressPreset) -> f64 {
+    preset
+        .baseline
+        .scale
+        .unwrap_or(preset.model.ctr_scale * preset.model.volume_scale)
+}
+
+/// Lowers (or raises) baseline paths in place under `preset`.
+pub fn stress_baseline(preset: &StressPreset, paths: &mut [f64]) {
+    let k = baseline_scale(preset);
+    for p in paths {
+        *p *= k;
+    }
+}
+
+/// What a preset did that the numbers alone do not show.
+pub fn notes(preset: &StressPreset, model: &Model, seed: u64) -> Vec<String> {
+    let hit = shocked_clusters(preset, model.clusters.len(), seed);
+    let mut out = Vec::new();
+    if !hit.is_empty() {
+        let names: Vec<&str> = hit
+            .iter()
+            .map(|&c| model.clusters[c].name.as_str())
+            .collect();
+        out.push(format!(
+            "gains x {} for {} of {} clusters: {}",
+            preset.model.gain_scale,
+            hit.len(),
+            model.clusters.len(),
+            names.join(", ")
+        ));
+        let fixed = hit.iter().any(|&c| {
+            model.clusters[c]
+                .gains
+                .iter()
+                .any(|g| matches!(g, TierGain::Explicit(e) if e.over == GainScale::FinalPosition))
+        });
+        if fixed {
+            out.push("explicit gains over the final position are left as stated".into());
+        }
+    }
+    let k = baseline_scale(preset);
+    if k != 1.0 {
+        out.push(format!("baseline paths x {k:.3}"));
+    }
+    out
+}
+
+/// A preset's stressed model, its futures (same seed as `opts`), its
+/// baseline paths and notes.
+#[derive(Debug, Clone)]
+pub struct StressedCase {
+    pub model: Model,
+    pub futures: Futures,
+    pub baseline: Option<Vec<f64>>,
+    pub notes: Vec<String>,
+}
+
+/// Applies `preset`, re-runs the Monte Carlo with `opts` (use the base
+/// run's seed and scenario count) and stresses a copy of `baseline`.
+pub fn run_preset(
+    preset: &StressPreset,
+    model: &Model,
+    baseline: Option<&[f64]>,
+    opts: &RunOptions,
+) -> crate::Result<StressedCase> {
+    let stressed = apply(preset, model, opts.seed);
+    let futures = crate::simulate::run(&stressed, opts)?;
+    let baseline = baseline.map(|b| {
+        let mut v = b.to_vec();
+        stress_baseline(preset, &mut v);
+        v
+    });
+    Ok(StressedCase {
+        notes: notes(preset, model, opts.seed),
+        model: stressed,
+        futures,
+        baseline,
+    })
+}
