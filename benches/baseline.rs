@@ -3,8 +3,8 @@
 //! 12 months. Targets (release): under 20 ms and under 50 ms.
 
 use criterion::{criterion_group, criterion_main, Criterion};
+use furrow;
 use furrow::baseline::{forecast, select, BaselineOptions, Init};
-use furrow_baseline as furrow;
 use std::hint::black_box;
 
 /// 36 months with trend, yearly season and a deterministic wobble.

@@ -85,7 +85,16 @@ pub fn central_clicks(model: &Model) -> Vec<Vec<f64>> {
             let mut one = vec![0.0; nt * h];
             for (k, kw) in c.keywords.iter().enumerate() {
                 one.fill(0.0);
-                add_keyword(model, c, k, &CENTRAL_DRAWS, 1.0, &ctx, &mut scratch, &mut one);
+                add_keyword(
+                    model,
+                    c,
+                    k,
+                    &CENTRAL_DRAWS,
+                    1.0,
+                    &ctx,
+                    &mut scratch,
+                    &mut one,
+                );
                 for t in 0..nt {
                     let w = match c.gains[t] {
                         TierGain::Model { .. } => 1.0 - kw.no_gain,

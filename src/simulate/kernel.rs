@@ -72,7 +72,12 @@ pub struct KernelScratch {
 impl KernelScratch {
     /// Scratch for `horizon` months.
     pub fn new(horizon: usize) -> KernelScratch {
-        KernelScratch { ramp: vec![0.0; horizon], base: vec![0.0; horizon], old: vec![0.0; horizon], weight: vec![0.0; horizon] }
+        KernelScratch {
+            ramp: vec![0.0; horizon],
+            base: vec![0.0; horizon],
+            old: vec![0.0; horizon],
+            weight: vec![0.0; horizon],
+        }
     }
 }
 
@@ -98,25 +103,41 @@ pub fn add_keyword(
     let months_full = kw.months_to_full * (model.rank.timing.noise_sigma * draws.z_time).exp();
     let first_since = 0.5 - c.start_offset as f64;
     let first = (0..h).find(|&m| first_since + m as f64 > 0.0).unwrap_or(h);
-    let lookup = if kw.branded { &model.ctr_branded_lookup } else { &model.ctr_lookup };
+    let lookup = if kw.branded {
+        &model.ctr_branded_lookup
+    } else {
+        &model.ctr_lookup
+    };
     let ctr0 = lookup.ctr_ln(kw.ln_p0);
     for m in first..h {
         sc.ramp[m] = model.rank.ramp(first_since + m as f64, months_full);
         let shock = ctx.shock[m];
         sc.base[m] = kw.ln_p0 + shock;
-        sc.old[m] = if shock == 0.0 { ctr0 } else { lookup.ctr_ln(sc.base[m]) };
+        sc.old[m] = if shock == 0.0 {
+            ctr0
+        } else {
+            lookup.ctr_ln(sc.base[m])
+        };
         sc.weight[m] = kw.volume * model.season[m];
     }
     // The keyword's luck and its cluster's execution, shared by every tier
     // (0 when it gains nothing under the model).
-    let luck = if gains { exec.max(0.0) * (model.rank.gain.noise_sigma * draws.z_gain).exp() } else { 0.0 };
+    let luck = if gains {
+        exec.max(0.0) * (model.rank.gain.noise_sigma * draws.z_gain).exp()
+    } else {
+        0.0
+    };
     for t in 0..c.n_tiers() {
         let d = tier_gain(c, k, t, kw, draws, exec, luck);
         if d == 0.0 {
             continue;
         }
         let row = &mut acc[t * h + first..(t + 1) * h];
-        let months = sc.ramp[first..].iter().zip(&sc.base[first..]).zip(&sc.old[first..]).zip(&sc.weight[first..]);
+        let months = sc.ramp[first..]
+            .iter()
+            .zip(&sc.base[first..])
+            .zip(&sc.old[first..])
+            .zip(&sc.weight[first..]);
         for (cell, (((r, b), o), w)) in row.iter_mut().zip(months) {
             *cell += w * (lookup.ctr_ln(b - r * d) - o);
         }

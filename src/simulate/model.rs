@@ -136,10 +136,11 @@ fn model_err(e: crate::clicks::ClicksError) -> Error {
     }
 }
 
+/// The model files a plan names, parsed, with where each came from.
+type LoadedModels = (CtrCurve, CtrCurve, RankGainModel, Vec<(String, String)>);
+
 /// Loads the model files the plan names.
-fn load_models(
-    inputs: &Inputs,
-) -> Result<(CtrCurve, CtrCurve, RankGainModel, Vec<(String, String)>)> {
+fn load_models(inputs: &Inputs) -> Result<LoadedModels> {
     let m = &inputs.plan.file.models;
     let ctr_t = model_files::find(&inputs.plan, "ctr", m.ctr.as_deref().unwrap_or("default"))?;
     let br_t = model_files::find(
