@@ -3,7 +3,6 @@
 //! 12 months. Targets (release): under 20 ms and under 50 ms.
 
 use criterion::{criterion_group, criterion_main, Criterion};
-use furrow;
 use furrow::baseline::{forecast, select, BaselineOptions, Init};
 use std::hint::black_box;
 

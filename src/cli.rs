@@ -40,6 +40,118 @@ enum CtrAction {
     },
 }
 
+/// LP methods of the allocation.
+#[derive(Debug, Clone, Copy, ValueEnum, PartialEq, Eq)]
+pub enum LpMethod {
+    Auto,
+    Full,
+    Cuts,
+}
+
+/// Flags of every command that simulates a plan.
+#[derive(Debug, clap::Args)]
+struct SimFlags {
+    /// Number of simulated futures (overrides the plan).
+    #[arg(long)]
+    scenarios: Option<usize>,
+    /// Seed of all random streams (overrides the plan).
+    #[arg(long)]
+    seed: Option<u64>,
+    /// Worker threads (default: all cores). Results do not depend on it.
+    #[arg(long)]
+    threads: Option<usize>,
+    /// Memory limit, in MiB (default: half of the machine's memory).
+    #[arg(long, value_name = "MIB")]
+    max_memory: Option<u64>,
+    /// No progress bar.
+    #[arg(long)]
+    quiet: bool,
+}
+
+fn simulate_plan(
+    plan: &std::path::Path,
+    o: Overrides,
+    sim: &SimFlags,
+) -> Result<furrow::pipeline::Simulated> {
+    set_threads(sim.threads)?;
+    let o = Overrides {
+        seed: sim.seed,
+        scenarios: sim.scenarios,
+        ..o
+    };
+    let inputs = furrow::inputs::load::load(plan, &o)?;
+    let bar = progress::Bar::new(
+        inputs.plan.scenarios as u64,
+        "simulating futures",
+        sim.quiet,
+    );
+    let cb = |d: usize| bar.set(d as u64);
+    let opts = furrow::pipeline::SimOptions {
+        max_memory: memory_limit(sim.max_memory),
+        progress: Some(&cb),
+    };
+    let s = furrow::pipeline::simulate(inputs, &opts)?;
+    bar.finish();
+    Ok(s)
+}
+
+fn solve_options(method: LpMethod, whole_tiers: bool) -> furrow::allocate::SolveOptions {
+    use furrow::allocate::{SolveMethod, SolveOptions};
+    SolveOptions {
+        method: match method {
+            LpMethod::Auto => SolveMethod::Auto,
+            LpMethod::Full => SolveMethod::Full,
+            LpMethod::Cuts => SolveMethod::Cuts,
+        },
+        whole_tiers,
+        ..SolveOptions::default()
+    }
+}
+
+fn allocate_files(
+    returns: &std::path::Path,
+    costs: &std::path::Path,
+    budget: f64,
+    tail_level: Option<f64>,
+    max_tail_loss: Option<&str>,
+) -> Result<furrow::allocate::Problem> {
+    use furrow::inputs::scenarios;
+    let r = scenarios::read_returns(returns)?;
+    let c = scenarios::read_costs(costs)?;
+    let c = scenarios::match_ids(&r, &c, &costs.display().to_string())?;
+    if !(budget.is_finite() && budget >= 0.0) {
+        return Err(furrow::Error::Setting(format!(
+            "--budget must be a non-negative amount, found {budget}"
+        ))
+        .into());
+    }
+    let n = r.scenarios();
+    let mut p = furrow::allocate::Problem::new(
+        r.ids.clone(),
+        c.iter().map(|x| x.cost).collect(),
+        n,
+        r.values,
+        budget,
+    );
+    p.min_fraction = c.iter().map(|x| x.min_fraction).collect();
+    p.max_fraction = c.iter().map(|x| x.max_fraction).collect();
+    p.requires = c
+        .iter()
+        .map(|x| {
+            x.requires
+                .as_ref()
+                .and_then(|q| r.ids.iter().position(|i| i == q))
+        })
+        .collect();
+    if let Some(q) = tail_level {
+        p.tail_level = furrow::plan::check_tail_level(q)?;
+    }
+    if let Some(m) = max_tail_loss {
+        p.max_tail_loss = Some(furrow::plan::parse_tail_loss(m, budget)?);
+    }
+    Ok(p)
+}
+
 /// Initial states of the exponential smoothing methods.
 #[derive(Debug, Clone, Copy, ValueEnum, PartialEq, Eq)]
 pub enum InitArg {
@@ -165,6 +277,78 @@ enum Command {
         /// No progress bar.
         #[arg(long)]
         quiet: bool,
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+    /// Split the budget across tiers to maximise expected net return under a tail-loss limit.
+    Allocate {
+        /// The plan file (TOML); or give --returns, --costs and --budget instead.
+        plan: Option<PathBuf>,
+        /// Futures: a header of ids, then one row of net returns per future.
+        #[arg(long, requires = "costs", conflicts_with = "plan")]
+        returns: Option<PathBuf>,
+        /// Costs: id, cost [, max_fraction, requires, min_fraction].
+        #[arg(long, requires = "returns")]
+        costs: Option<PathBuf>,
+        /// Total budget (overrides the plan; required with --returns).
+        #[arg(long)]
+        budget: Option<f64>,
+        /// Share of outcomes the tail excludes: 0.90 means the worst 10 %.
+        #[arg(long)]
+        tail_level: Option<f64>,
+        /// Largest tolerated average loss in the tail: an amount, or a share of the budget such as 15%.
+        #[arg(long)]
+        max_tail_loss: Option<String>,
+        /// Fund each tier fully or not at all.
+        #[arg(long)]
+        whole_tiers: bool,
+        /// LP method: auto, full (one LP) or cuts (Kunzi-Bay & Mayer cutting planes).
+        #[arg(long, value_enum, default_value_t = LpMethod::Auto)]
+        method: LpMethod,
+        #[command(flatten)]
+        sim: SimFlags,
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+    /// Sweep the tail-loss limit and tabulate the best expected return at each.
+    Frontier {
+        /// The plan file (TOML).
+        plan: PathBuf,
+        /// Number of points.
+        #[arg(long, default_value_t = 11)]
+        points: usize,
+        #[command(flatten)]
+        sim: SimFlags,
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+    /// Re-simulate the chosen allocation under pessimistic presets.
+    Stress {
+        /// The plan file (TOML).
+        plan: PathBuf,
+        /// A preset to run (a name in models/stress/ or a path); repeat for several. Default: the plan's list, or all.
+        #[arg(long = "preset", value_name = "NAME")]
+        presets: Vec<String>,
+        /// Allocate against a mix of the base futures and this preset's futures.
+        #[arg(long, value_name = "NAME")]
+        optimize_under: Option<String>,
+        /// Probability on the stressed futures in that mix.
+        #[arg(long, default_value_t = 0.5)]
+        stress_weight: f64,
+        #[command(flatten)]
+        sim: SimFlags,
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+    /// Compare actuals with the forecast and re-forecast the rest of the horizon.
+    Track {
+        /// The plan file (TOML).
+        plan: PathBuf,
+        /// Months observed since the start: month, clicks [, revenue].
+        #[arg(long)]
+        actuals: PathBuf,
+        #[command(flatten)]
+        sim: SimFlags,
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
     },
@@ -414,6 +598,133 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             );
             out(&furrow::output::render(&summary, format.into())?)?;
         }
+        Command::Allocate {
+            plan,
+            returns,
+            costs,
+            budget,
+            tail_level,
+            max_tail_loss,
+            whole_tiers,
+            method,
+            sim,
+            format,
+        } => {
+            let opts = solve_options(method, whole_tiers);
+            let (problem, currency) = match (plan, returns, costs) {
+                (_, Some(r), Some(c)) => {
+                    let b = budget.ok_or_else(|| {
+                        furrow::Error::Setting(
+                            "--budget is required with --returns and --costs".into(),
+                        )
+                    })?;
+                    (
+                        allocate_files(&r, &c, b, tail_level, max_tail_loss.as_deref())?,
+                        String::new(),
+                    )
+                }
+                (Some(plan), _, _) => {
+                    let o = Overrides {
+                        budget,
+                        tail_level,
+                        max_tail_loss,
+                        ..Overrides::default()
+                    };
+                    let s = simulate_plan(&plan, o, &sim)?;
+                    (s.problem(), s.inputs.plan.currency.clone())
+                }
+                _ => {
+                    return Err(furrow::Error::Setting(
+                        "give a PLAN, or --returns FILE --costs FILE --budget B".into(),
+                    )
+                    .into())
+                }
+            };
+            let allocation =
+                furrow::allocate::solve(&problem, &opts).map_err(furrow::Error::from)?;
+            let o = furrow::allocate::output::AllocationOutput {
+                allocation,
+                currency,
+            };
+            out(&furrow::output::render(&o, format.into())?)?;
+        }
+        Command::Frontier {
+            plan,
+            points,
+            sim,
+            format,
+        } => {
+            if !(2..=200).contains(&points) {
+                return Err(furrow::Error::Setting(format!(
+                    "--points must be 2 to 200, found {points}"
+                ))
+                .into());
+            }
+            let s = simulate_plan(&plan, Overrides::default(), &sim)?;
+            let problem = s.problem();
+            let pts = furrow::allocate::frontier(
+                &problem,
+                points,
+                &furrow::allocate::SolveOptions::default(),
+            )
+            .map_err(furrow::Error::from)?;
+            let o = furrow::allocate::output::FrontierOutput {
+                currency: s.inputs.plan.currency.clone(),
+                tail_level: problem.tail_level,
+                points: pts,
+            };
+            out(&furrow::output::render(&o, format.into())?)?;
+        }
+        Command::Stress {
+            plan,
+            presets,
+            optimize_under,
+            stress_weight,
+            sim,
+            format,
+        } => {
+            let s = simulate_plan(&plan, Overrides::default(), &sim)?;
+            let opts = furrow::allocate::SolveOptions::default();
+            let limit = memory_limit(sim.max_memory);
+            let chosen = match &optimize_under {
+                Some(name) => {
+                    furrow::analysis::allocate_under(&s, name, stress_weight, &opts, limit)?
+                }
+                None => s.allocate(&opts)?,
+            };
+            let names = furrow::analysis::preset_names(&s, &presets);
+            let report = furrow::analysis::stress_report(&s, &chosen, &names, limit)?;
+            out(&furrow::output::render(&report, format.into())?)?;
+        }
+        Command::Track {
+            plan,
+            actuals,
+            sim,
+            format,
+        } => {
+            let s = simulate_plan(&plan, Overrides::default(), &sim)?;
+            let no_map = Default::default();
+            let a = furrow::inputs::monthly::read(
+                &actuals,
+                furrow::inputs::monthly::ACTUALS_COLUMNS,
+                &no_map,
+                furrow::inputs::monthly::NON_NEGATIVE,
+            )?;
+            if a.first() != Some(s.inputs.start) || a.len() > s.inputs.plan.horizon {
+                return Err(furrow::Error::Setting(format!(
+                    "{}: actuals must start at the forecast start {} and cover at most {} months; found {} months from {}",
+                    a.file,
+                    s.inputs.start,
+                    s.inputs.plan.horizon,
+                    a.len(),
+                    a.first().map(|m| m.to_string()).unwrap_or_else(|| "nothing".into())
+                ))
+                .into());
+            }
+            let chosen = s.allocate(&furrow::allocate::SolveOptions::default())?;
+            let report = furrow::analysis::track_report(&s, &chosen, &a)?;
+            out(&furrow::output::render(&report, format.into())?)?;
+        }
         Command::Report {
             plan,
             out: dir,
@@ -429,7 +740,15 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 ..Overrides::default()
             };
             let inputs = furrow::inputs::load::load(&plan, &o)?;
-            let report = furrow::report::run(&inputs, dir.as_deref(), quiet)?;
+            let bar = progress::Bar::new(inputs.plan.scenarios as u64, "simulating futures", quiet);
+            let cb = |d: usize| bar.set(d as u64);
+            let opts = furrow::report::ReportOptions {
+                out: dir.as_deref(),
+                max_memory: memory_limit(None),
+                progress: Some(&cb),
+            };
+            let report = furrow::report::run(inputs, &opts)?;
+            bar.finish();
             out(&report.terminal)?;
         }
     }

@@ -446,14 +446,14 @@ fn plan_toml(rng: &mut Stream, clusters: &[(String, Vec<String>)], opts: &DemoOp
         "{}",
         PLAN_HEAD.replace("{months}", &opts.months.to_string())
     );
-    let total: f64 = clusters.len() as f64 * 1_500.0;
+    let total: f64 = clusters.len() as f64 * 2_400.0;
     let _ = write!(
         s,
         "\n[budget]\ntotal = {:.0}\ntail_level = 0.90\nmax_tail_loss = \"10%\"\n",
         (total / 1000.0).round() * 1000.0
     );
     for (name, _) in clusters {
-        let base = 1_500.0 + 1_800.0 * rng.random::<f64>();
+        let base = 2_400.0 + 2_900.0 * rng.random::<f64>();
         let _ = write!(
             s,
             "\n[[cluster]]\nname = \"{name}\"\nstart = \"2027-{:02}\"\ntiers = [\n  {{ label = \"refresh pages\", cost = {:.0}, effort = 1.0 }},\n  {{ label = \"new guides\", cost = {:.0}, effort = 1.0 }},\n  {{ label = \"outreach\", cost = {:.0}, effort = 1.5 }},\n]\n",
@@ -503,7 +503,7 @@ seasonality = "history"
 
 [target]
 metric = "clicks"
-growth = 0.22
+growth = 0.12
 "#;
 
 /// Checks demo options.

@@ -161,9 +161,9 @@ pub enum Error {
     /// The baseline forecast could not be made.
     #[error("baseline: {0}")]
     Baseline(#[from] crate::baseline::BaselineError),
-    /// No allocation satisfies the constraints.
-    #[error("{message}")]
-    Infeasible { message: String, min_tail_loss: f64 },
+    /// The allocation could not be solved (exit 3 when infeasible).
+    #[error("allocation: {0}")]
+    Allocate(#[from] crate::allocate::AllocError),
 }
 
 impl Error {
@@ -171,7 +171,7 @@ impl Error {
     pub fn exit_code(&self) -> u8 {
         use crate::baseline::BaselineError as B;
         match self {
-            Error::Infeasible { .. } => 3,
+            Error::Allocate(crate::allocate::AllocError::Infeasible { .. }) => 3,
             Error::Setting(_)
             | Error::Baseline(
                 B::BadParameter { .. } | B::BadCount { .. } | B::UnknownMethod { .. },

@@ -7,6 +7,8 @@
 //! and `stress`, and `report`. The library never prints or exits; the binary
 //! in `main.rs` does.
 
+pub mod allocate;
+pub mod analysis;
 pub mod baseline;
 pub mod check;
 pub mod clicks;
@@ -20,6 +22,7 @@ pub mod inputs;
 pub mod model_files;
 pub mod month;
 pub mod output;
+pub mod pipeline;
 pub mod plan;
 pub mod report;
 pub mod rng;

@@ -1,14 +1,29 @@
 //! `furrow report`: the whole job on a plan, written to a report folder.
 //!
-//! This build's report holds what the tool computes so far: the checked
-//! inputs and their summary. It states plainly what is not computed yet,
-//! rather than showing placeholder numbers.
+//! Check, baseline, simulate, allocate, target odds, stress, variance
+//! drivers, tracking when the plan names actuals, and the frontier; written
+//! as a plain-text summary for people, `summary.json` with every figure, and
+//! CSV tables. The folder is written beside its final place and renamed
+//! into it, so a failure or an interrupt leaves the previous report intact.
+//! (The HTML page with charts and the workbook are not part of this build;
+//! the summary says so rather than pointing at files that do not exist.)
 
+use crate::allocate::output::{AllocationOutput, FrontierOutput};
+use crate::allocate::{self, SolveOptions};
+use crate::analysis;
 use crate::check;
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::fsio::write_text;
 use crate::inputs::load::Inputs;
+use crate::output::{csv, json, num, Render, Rows};
+use crate::pipeline::{self, SimOptions, Simulated};
+use crate::simulate::summarise_futures;
+use crate::stats::{quantile_sorted, sort};
+use crate::text::{int, money, pct};
+use serde::Serialize;
+use sha2::{Digest, Sha256};
 use std::path::{Path, PathBuf};
+use std::time::Instant;
 
 /// What a report run produced.
 #[derive(Debug, Clone)]
@@ -19,21 +34,454 @@ pub struct ReportOutput {
     pub terminal: String,
 }
 
-/// Runs the report and writes it to `out` (default reports/<plan name>/).
-pub fn run(inputs: &Inputs, out: Option<&Path>, _quiet: bool) -> Result<ReportOutput> {
-    let dir = out
+/// Options of a report run.
+pub struct ReportOptions<'a> {
+    /// Output folder (default reports/<plan name>/).
+    pub out: Option<&'a Path>,
+    /// Memory limit in bytes.
+    pub max_memory: u64,
+    /// Progress callback for the simulation (futures done).
+    pub progress: Option<&'a (dyn Fn(usize) + Sync)>,
+}
+
+/// One month of the forecast: baseline and baseline plus the funded plan.
+#[derive(Debug, Clone, Serialize)]
+pub struct ForecastRow {
+    pub month: String,
+    pub baseline_mean: f64,
+    pub baseline_p10: f64,
+    pub baseline_p50: f64,
+    pub baseline_p90: f64,
+    pub with_plan_p10: f64,
+    pub with_plan_p50: f64,
+    pub with_plan_p90: f64,
+}
+
+/// A SHA-256 of one input file.
+#[derive(Debug, Clone, Serialize)]
+pub struct InputHash {
+    pub label: String,
+    pub path: String,
+    pub sha256: String,
+}
+
+/// Reproducibility facts.
+#[derive(Debug, Clone, Serialize)]
+pub struct Reproducibility {
+    pub tool_version: String,
+    pub seed: u64,
+    pub scenarios: usize,
+    pub inputs: Vec<InputHash>,
+    pub run_seconds: f64,
+    pub models: Vec<(String, String)>,
+}
+
+/// Everything the report holds.
+#[derive(Debug, Serialize)]
+pub struct Summary {
+    pub plan: String,
+    pub currency: String,
+    pub decision: String,
+    pub cautions: Vec<String>,
+    pub check: check::Summary,
+    pub baseline: crate::baseline::run::BaselineOutput,
+    pub forecast: Vec<ForecastRow>,
+    pub allocation: crate::allocate::Allocation,
+    pub best_expected_return: crate::allocate::Allocation,
+    pub clusters: crate::simulate::SimSummary,
+    pub target: Option<crate::target::TargetReport>,
+    pub stress: crate::stress::StressReport,
+    pub drivers: crate::drivers::DriverReport,
+    pub tracking: Option<crate::track::TrackReport>,
+    pub frontier: Vec<crate::allocate::FrontierPoint>,
+    pub reproducibility: Reproducibility,
+}
+
+/// The cautions every report states.
+pub const CAUTIONS: &[&str] = &[
+    "A forecast is an estimate under stated assumptions, not a promise: the figures come from the model files listed below and from the inputs as given.",
+    "The rank-gain constants are rules of thumb (common practice, no source); calibrate them from your own past campaigns. The variance drivers show which assumptions move the result most.",
+    "A budget decision should rest on your own judgment and your finance team's rules as well as on these numbers.",
+];
+
+fn hash_file(p: &Path) -> Result<String> {
+    let bytes = std::fs::read(p).map_err(|source| Error::Read {
+        path: p.to_path_buf(),
+        source,
+    })?;
+    Ok(Sha256::digest(&bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect())
+}
+
+fn forecast_rows(s: &Simulated, fractions: &[f64]) -> Result<Vec<ForecastRow>> {
+    let h = s.futures.horizon;
+    let totals = crate::target::monthly_totals(
+        &s.futures,
+        &s.baseline_paths,
+        fractions,
+        crate::target::Metric::Clicks,
+    )?;
+    let rows = s
+        .baseline
+        .output
+        .forecast
+        .iter()
+        .enumerate()
+        .map(|(m, b)| {
+            let mut col: Vec<f64> = totals.chunks(h).map(|r| r[m]).collect();
+            sort(&mut col);
+            ForecastRow {
+                month: b.month.to_string(),
+                baseline_mean: b.mean,
+                baseline_p10: b.p10,
+                baseline_p50: b.p50,
+                baseline_p90: b.p90,
+                with_plan_p10: quantile_sorted(&col, 0.1),
+                with_plan_p50: quantile_sorted(&col, 0.5),
+                with_plan_p90: quantile_sorted(&col, 0.9),
+            }
+        })
+        .collect();
+    Ok(rows)
+}
+
+fn decision(
+    s: &Simulated,
+    a: &crate::allocate::Allocation,
+    t: Option<&crate::target::TargetReport>,
+) -> String {
+    let cur = &s.inputs.plan.currency;
+    let funded: Vec<String> = a
+        .allocation
+        .iter()
+        .filter(|i| i.fraction > 1e-6)
+        .map(|i| {
+            if i.fraction > 0.999 {
+                i.id.clone()
+            } else {
+                format!("{} ({:.0} %)", i.id, i.fraction * 100.0)
+            }
+        })
+        .collect();
+    let what = if funded.is_empty() {
+        "fund nothing".to_string()
+    } else {
+        format!("fund {}", funded.join(", "))
+    };
+    let tail = if a.tail_loss >= 0.0 {
+        format!(
+            "in the worst {:.0} % of futures the average loss is {}",
+            (1.0 - a.tail_level) * 100.0,
+            money(a.tail_loss, cur)
+        )
+    } else {
+        format!(
+            "even the worst {:.0} % of futures gain {} on average",
+            (1.0 - a.tail_level) * 100.0,
+            money(-a.tail_loss, cur)
+        )
+    };
+    let limit = a
+        .max_tail_loss
+        .map(|l| format!(" (limit {})", money(l, cur)))
+        .unwrap_or_default();
+    let mut text = format!(
+        "With a budget of {}, {what}, spending {}. Expected net return over the horizon: {} (ROI {}); {tail}{limit}; chance of a loss {}.",
+        money(a.budget, cur),
+        money(a.budget_used, cur),
+        money(a.expected_net_return, cur),
+        a.expected_roi.map(|r| format!("{r:.2}")).unwrap_or_else(|| "n/a".into()),
+        pct(a.chance_of_loss, 0),
+    );
+    if let Some(t) = t {
+        let unit = if t.metric == crate::target::Metric::Revenue {
+            cur.to_string()
+        } else {
+            "clicks".into()
+        };
+        text += &format!(
+            " Chance of reaching the target of {} {unit}: {} with this plan, {} doing nothing, {} with the best expected-return plan.",
+            int(t.target),
+            pct(t.chosen.odds.chance, 0),
+            pct(t.do_nothing.odds.chance, 0),
+            pct(t.best.odds.chance, 0)
+        );
+    }
+    text
+}
+
+/// Runs the whole job and writes the report folder.
+pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
+    let started = Instant::now();
+    let dir = opts
+        .out
         .map(Path::to_path_buf)
         .unwrap_or_else(|| PathBuf::from("reports").join(&inputs.plan.name));
-    let summary = check::summarise(inputs);
-    let mut text = String::from("furrow report\n\n");
-    text += &check::render(&summary);
-    text += "\nThis build checks and summarises the inputs only. Baseline forecasting, \
-simulation and allocation are not part of this build yet, so no forecast or \
-allocation figures are shown.\n";
-    write_text(&dir.join("summary.txt"), &text)?;
+    let check = check::summarise(&inputs);
+    let s = pipeline::simulate(
+        inputs,
+        &SimOptions {
+            max_memory: opts.max_memory,
+            progress: opts.progress,
+        },
+    )?;
+    let solve = SolveOptions::default();
+    let chosen = s.allocate(&solve)?;
+    let best = analysis::best_allocation(&s, &solve)?;
+    let fractions = s.fractions(&chosen);
+    let target = analysis::target_report(&s, &chosen, &best)?;
+    let names = analysis::preset_names(&s, &[]);
+    let stress = analysis::stress_report(&s, &chosen, &names, opts.max_memory)?;
+    let drivers = analysis::drivers_report(&s, &chosen)?;
+    let tracking = match &s.inputs.actuals {
+        Some(a) => Some(analysis::track_report(&s, &chosen, a)?),
+        None => None,
+    };
+    let frontier = allocate::frontier(&s.problem(), 11, &solve)?;
+    let inputs_hashed = s
+        .inputs
+        .files
+        .iter()
+        .map(|(label, p)| {
+            Ok(InputHash {
+                label: label.clone(),
+                path: p.display().to_string(),
+                sha256: hash_file(p)?,
+            })
+        })
+        .collect::<Result<Vec<_>>>()?;
+    let summary = Summary {
+        plan: s.inputs.plan.name.clone(),
+        currency: s.inputs.plan.currency.clone(),
+        decision: decision(&s, &chosen, target.as_ref()),
+        cautions: CAUTIONS.iter().map(|c| c.to_string()).collect(),
+        check,
+        baseline: s.baseline.output.clone(),
+        forecast: forecast_rows(&s, &fractions)?,
+        clusters: summarise_futures(
+            &s.model,
+            &s.futures,
+            s.inputs.plan.seed,
+            &s.inputs.plan.currency,
+        ),
+        allocation: chosen,
+        best_expected_return: best,
+        target,
+        stress,
+        drivers,
+        tracking,
+        frontier,
+        reproducibility: Reproducibility {
+            tool_version: env!("CARGO_PKG_VERSION").to_string(),
+            seed: s.inputs.plan.seed,
+            scenarios: s.inputs.plan.scenarios,
+            inputs: inputs_hashed,
+            run_seconds: started.elapsed().as_secs_f64(),
+            models: s.model.origins.clone(),
+        },
+    };
+    write_folder(&dir, &summary)?;
     let terminal = format!(
-        "{text}\nReport written to {}\n",
-        dir.join("summary.txt").display()
+        "{}\n\nReport written to {}/ (summary.txt, summary.json and CSV tables).\n",
+        summary.decision,
+        dir.display()
     );
     Ok(ReportOutput { dir, terminal })
+}
+
+fn forecast_table(rows: &[ForecastRow]) -> Rows {
+    Rows {
+        header: [
+            "month",
+            "baseline_mean",
+            "baseline_p10",
+            "baseline_p50",
+            "baseline_p90",
+            "with_plan_p10",
+            "with_plan_p50",
+            "with_plan_p90",
+        ]
+        .map(String::from)
+        .to_vec(),
+        rows: rows
+            .iter()
+            .map(|r| {
+                vec![
+                    r.month.clone(),
+                    num(r.baseline_mean),
+                    num(r.baseline_p10),
+                    num(r.baseline_p50),
+                    num(r.baseline_p90),
+                    num(r.with_plan_p10),
+                    num(r.with_plan_p50),
+                    num(r.with_plan_p90),
+                ]
+            })
+            .collect(),
+    }
+}
+
+fn text_summary(sm: &Summary) -> String {
+    let cur = &sm.currency;
+    let alloc = AllocationOutput {
+        allocation: sm.allocation.clone(),
+        currency: cur.clone(),
+    };
+    let mut t = format!("furrow report: {}\n\n{}\n\n", sm.plan, sm.decision);
+    t += "== Cautions\n";
+    for c in &sm.cautions {
+        t += &format!("- {c}\n");
+    }
+    t += &format!("\n== Inputs\n{}\n", check::render(&sm.check));
+    t += &format!("== Baseline (no new work)\n{}\n", sm.baseline.table());
+    t += "== Forecast with the plan (clicks per month)\n";
+    let rows: Vec<Vec<String>> = sm
+        .forecast
+        .iter()
+        .map(|r| {
+            vec![
+                r.month.clone(),
+                int(r.baseline_p50),
+                int(r.with_plan_p10),
+                int(r.with_plan_p50),
+                int(r.with_plan_p90),
+            ]
+        })
+        .collect();
+    use crate::text::Align::*;
+    t += &crate::text::table(
+        &[
+            "month",
+            "baseline P50",
+            "with plan P10",
+            "with plan P50",
+            "with plan P90",
+        ],
+        &[Left, Right, Right, Right, Right],
+        &rows,
+    );
+    t += &format!("\n== Allocation\n{}\n", alloc.table());
+    t += &format!("== Per cluster and tier\n{}\n", sm.clusters.table());
+    if let Some(tr) = &sm.target {
+        t += &format!("== Target\n{}\n", tr.table());
+    }
+    t += &format!("== Stress tests\n{}\n", sm.stress.table());
+    t += &format!("== What drives the variance\n{}\n", sm.drivers.table());
+    if let Some(tr) = &sm.tracking {
+        t += &format!("== Tracking\n{}\n", tr.table());
+    }
+    let fr = FrontierOutput {
+        currency: cur.clone(),
+        tail_level: sm.allocation.tail_level,
+        points: sm.frontier.clone(),
+    };
+    t += &format!("== Efficient frontier\n{}\n", fr.table());
+    t += &format!(
+        "== Reproducibility\nfurrow {}, seed {}, {} futures, run time {:.2} s\n",
+        sm.reproducibility.tool_version,
+        sm.reproducibility.seed,
+        int(sm.reproducibility.scenarios as f64),
+        sm.reproducibility.run_seconds
+    );
+    for h in &sm.reproducibility.inputs {
+        t += &format!("  {} {} ({})\n", h.sha256, h.path, h.label);
+    }
+    for (what, origin) in &sm.reproducibility.models {
+        t += &format!("  {what}: {origin}\n");
+    }
+    t += "\nThe HTML page with charts and the workbook are not part of this build; summary.json and the CSV files hold every figure.\n";
+    t
+}
+
+fn write_folder(dir: &Path, sm: &Summary) -> Result<()> {
+    let parent = dir
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = dir
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .unwrap_or_else(|| "report".into());
+    let tmp = parent.join(format!(".{name}.tmp-{}", std::process::id()));
+    let werr = |p: &Path| {
+        let p = p.to_path_buf();
+        move |source| Error::Write { path: p, source }
+    };
+    std::fs::create_dir_all(&tmp).map_err(werr(&tmp))?;
+    let result = write_files(&tmp, sm).and_then(|_| swap_in(&tmp, dir));
+    if result.is_err() {
+        let _ = std::fs::remove_dir_all(&tmp);
+    }
+    result
+}
+
+fn write_files(tmp: &Path, sm: &Summary) -> Result<()> {
+    let cur = sm.currency.clone();
+    let alloc = AllocationOutput {
+        allocation: sm.allocation.clone(),
+        currency: cur.clone(),
+    };
+    let fr = FrontierOutput {
+        currency: cur,
+        tail_level: sm.allocation.tail_level,
+        points: sm.frontier.clone(),
+    };
+    write_text(&tmp.join("summary.txt"), &text_summary(sm))?;
+    write_text(&tmp.join("summary.json"), &json::to_string(sm)?)?;
+    write_text(&tmp.join("allocation.csv"), &csv::to_string(&alloc.rows())?)?;
+    write_text(
+        &tmp.join("clusters.csv"),
+        &csv::to_string(&sm.clusters.rows())?,
+    )?;
+    write_text(&tmp.join("frontier.csv"), &csv::to_string(&fr.rows())?)?;
+    write_text(&tmp.join("stress.csv"), &csv::to_string(&sm.stress.rows())?)?;
+    write_text(
+        &tmp.join("forecast.csv"),
+        &csv::to_string(&forecast_table(&sm.forecast))?,
+    )?;
+    write_text(
+        &tmp.join("drivers.csv"),
+        &csv::to_string(&sm.drivers.rows())?,
+    )?;
+    if let Some(t) = &sm.target {
+        write_text(&tmp.join("target.csv"), &csv::to_string(&t.rows())?)?;
+    }
+    if let Some(t) = &sm.tracking {
+        write_text(&tmp.join("tracking.csv"), &csv::to_string(&t.rows())?)?;
+    }
+    Ok(())
+}
+
+/// Replaces `dir` by `tmp`: the old folder is moved aside first and removed
+/// only once the new one is in place.
+fn swap_in(tmp: &Path, dir: &Path) -> Result<()> {
+    let old = dir.with_file_name(format!(
+        ".{}.old-{}",
+        dir.file_name()
+            .map(|n| n.to_string_lossy().to_string())
+            .unwrap_or_default(),
+        std::process::id()
+    ));
+    let had_old = dir.exists();
+    if had_old {
+        std::fs::rename(dir, &old).map_err(|source| Error::Write {
+            path: dir.to_path_buf(),
+            source,
+        })?;
+    }
+    if let Err(source) = std::fs::rename(tmp, dir) {
+        if had_old {
+            let _ = std::fs::rename(&old, dir);
+        }
+        return Err(Error::Write {
+            path: dir.to_path_buf(),
+            source,
+        });
+    }
+    if had_old {
+        let _ = std::fs::remove_dir_all(&old);
+    }
+    Ok(())
 }

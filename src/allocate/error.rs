@@ -1,0 +1,105 @@
+//! Errors of the allocation module.
+//!
+//! Each message names the field or option at fault and says what to change.
+//! `Infeasible` is the one the command line maps to exit code 3; every other
+//! variant is a failure (exit code 1).
+
+use thiserror::Error;
+
+/// Everything that can go wrong while allocating a budget.
+#[derive(Debug, Error, Clone, PartialEq)]
+pub enum AllocError {
+    /// The problem data are unusable as given.
+    #[error("invalid allocation problem: {field}: {message}")]
+    Invalid {
+        /// The field, id or option at fault (for example `costs[cluster/tier]`).
+        field: String,
+        /// What is wrong and how to fix it.
+        message: String,
+    },
+
+    /// No allocation meets the tail-loss limit.
+    #[error(
+        "no allocation keeps the tail loss at or under the limit {limit:.6}: the smallest tail \
+         loss achievable with this budget is {min_tail_loss:.6}; raise --max-tail-loss to at \
+         least that, or lower the must-fund minimums"
+    )]
+    Infeasible {
+        /// The smallest CVaR of loss any allocation within the budget reaches.
+        min_tail_loss: f64,
+        /// The limit that was asked for.
+        limit: f64,
+    },
+
+    /// Whole tiers were asked for on an instance too large for branch and bound.
+    #[error(
+        "--whole-tiers: {variables} tiers exceed the limit of {max_binary_vars} whole-tier \
+         (binary) variables; the continuous allocation has an expected net return of \
+         {continuous_expected_return:.6}; drop --whole-tiers or raise max_binary_vars"
+    )]
+    WholeTiersTooLarge {
+        /// Number of investment ids.
+        variables: usize,
+        /// The configured limit.
+        max_binary_vars: usize,
+        /// Expected net return of the continuous (fractional) optimum.
+        continuous_expected_return: f64,
+    },
+
+    /// The LP backend failed (numerical trouble, unexpected unboundedness).
+    #[error("the LP solver ({backend}) failed: {message}; try the other --method or backend")]
+    Solver {
+        /// Backend name.
+        backend: String,
+        /// The backend's message.
+        message: String,
+    },
+
+    /// The solver stopped without proving optimality (time limit, gap).
+    #[error(
+        "the LP solver ({backend}) stopped before proving optimality ({status}); \
+         raise the time limit or use --method cuts"
+    )]
+    NotOptimal {
+        /// Backend name.
+        backend: String,
+        /// The reason it stopped.
+        status: String,
+    },
+
+    /// The cutting-plane loop hit its round limit.
+    #[error(
+        "the cutting-plane method did not converge in {rounds} rounds (largest tail-loss \
+         violation {violation:.3e}); use --method full"
+    )]
+    CutsDidNotConverge {
+        /// Rounds performed.
+        rounds: usize,
+        /// Remaining violation of the tail-loss representation.
+        violation: f64,
+    },
+
+    /// The backend was not compiled in.
+    #[error("the {backend} LP backend is not built in: rebuild with `--features {backend}`")]
+    BackendUnavailable {
+        /// Backend name.
+        backend: String,
+    },
+
+    /// The answer failed the independent re-check against the scenarios.
+    #[error("the allocation failed verification: {what}; please report this as a bug")]
+    Verification {
+        /// Which check failed, with the numbers.
+        what: String,
+    },
+}
+
+impl AllocError {
+    /// Shorthand for an `Invalid` error.
+    pub fn invalid(field: impl Into<String>, message: impl Into<String>) -> Self {
+        Self::Invalid {
+            field: field.into(),
+            message: message.into(),
+        }
+    }
+}

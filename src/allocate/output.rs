@@ -1,0 +1,175 @@
+//! Output of `furrow allocate` and `furrow frontier`: the table a search
+//! lead takes to the budget meeting (what to fund, expected return, the
+//! downside, what one more unit of budget or of tolerated tail loss is
+//! worth, which limits bind, in plain words), and CSV rows for scripts.
+
+use super::frontier::FrontierPoint;
+use super::result::Allocation;
+use crate::output::{num, Render, Rows};
+use crate::text::{money, pct, table, Align::*};
+use serde::Serialize;
+
+/// An allocation with the currency to print it in.
+#[derive(Debug, Clone, Serialize)]
+pub struct AllocationOutput {
+    #[serde(flatten)]
+    pub allocation: Allocation,
+    pub currency: String,
+}
+
+fn ratio(v: Option<f64>) -> String {
+    v.map(|x| format!("{x:.2}")).unwrap_or_else(|| "n/a".into())
+}
+
+impl Render for AllocationOutput {
+    fn table(&self) -> String {
+        let a = &self.allocation;
+        let cur = &self.currency;
+        let rows: Vec<Vec<String>> = a
+            .allocation
+            .iter()
+            .filter(|i| i.fraction > 1e-9)
+            .map(|i| vec![i.id.clone(), pct(i.fraction, 1), money(i.spend, cur)])
+            .collect();
+        let mut out = format!(
+            "Allocation ({}, solved by {} with {}):\n\n",
+            a.status, a.method_used, a.backend
+        );
+        if rows.is_empty() {
+            out += "  nothing funded\n";
+        } else {
+            out += &table(
+                &["cluster/tier", "funded", "spend"],
+                &[Left, Right, Right],
+                &rows,
+            );
+        }
+        let limit = a
+            .max_tail_loss
+            .map(|v| money(v, cur))
+            .unwrap_or_else(|| "none".into());
+        out += &format!(
+            "\nBudget used: {} of {}\nExpected net return: {} (ROI {})\nTail loss (CVaR, average loss in the worst {:.0} % of futures): {} (limit {limit})\nValue at risk at the same level: {}\nChance of a loss: {}\n",
+            money(a.budget_used, cur),
+            money(a.budget, cur),
+            money(a.expected_net_return, cur),
+            ratio(a.expected_roi),
+            (1.0 - a.tail_level) * 100.0,
+            money(a.tail_loss, cur),
+            money(a.value_at_risk, cur),
+            pct(a.chance_of_loss, 1),
+        );
+        out += &format!(
+            "One more {cur} of budget is worth {:.3} {cur} of expected net return; one more {cur} of tolerated tail loss is worth {:.3} {cur}.\n",
+            a.budget_dual, a.risk_dual
+        );
+        for b in &a.binding {
+            out += &format!("- {b}\n");
+        }
+        for e in &a.explanation {
+            out += &format!("- {e}\n");
+        }
+        if let Some(g) = a.whole_tiers_gap {
+            out += &format!(
+                "Whole tiers only: {} less expected net return than the fractional answer.\n",
+                money(g, cur)
+            );
+        }
+        out
+    }
+
+    fn rows(&self) -> Rows {
+        Rows {
+            header: ["id", "fraction", "spend"].map(String::from).to_vec(),
+            rows: self
+                .allocation
+                .allocation
+                .iter()
+                .map(|i| vec![i.id.clone(), num(i.fraction), num(i.spend)])
+                .collect(),
+        }
+    }
+}
+
+/// The efficient frontier with its currency.
+#[derive(Debug, Clone, Serialize)]
+pub struct FrontierOutput {
+    pub currency: String,
+    pub tail_level: f64,
+    pub points: Vec<FrontierPoint>,
+}
+
+impl Render for FrontierOutput {
+    fn table(&self) -> String {
+        let cur = &self.currency;
+        let rows: Vec<Vec<String>> = self
+            .points
+            .iter()
+            .map(|p| {
+                let funded: Vec<String> = p
+                    .allocation
+                    .iter()
+                    .filter(|i| i.fraction > 1e-6)
+                    .map(|i| format!("{} {:.0}%", i.id, i.fraction * 100.0))
+                    .collect();
+                vec![
+                    money(p.max_tail_loss, cur),
+                    money(p.expected_net_return, cur),
+                    money(p.tail_loss, cur),
+                    money(p.budget_used, cur),
+                    funded.join(", "),
+                ]
+            })
+            .collect();
+        let mut out = format!(
+            "Efficient frontier: best expected net return for each limit on the tail loss (CVaR at level {:.2}).\n\n",
+            self.tail_level
+        );
+        out += &table(
+            &[
+                "tail-loss limit",
+                "expected net return",
+                "tail loss",
+                "spend",
+                "funded",
+            ],
+            &[Right, Right, Right, Right, Left],
+            &rows,
+        );
+        out
+    }
+
+    fn rows(&self) -> Rows {
+        let ids: Vec<String> = self
+            .points
+            .first()
+            .map(|p| p.allocation.iter().map(|i| i.id.clone()).collect())
+            .unwrap_or_default();
+        let mut header: Vec<String> = [
+            "max_tail_loss",
+            "expected_net_return",
+            "tail_loss",
+            "value_at_risk",
+            "budget_used",
+        ]
+        .map(String::from)
+        .to_vec();
+        header.extend(ids.iter().map(|i| format!("fraction:{i}")));
+        let rows = self
+            .points
+            .iter()
+            .map(|p| {
+                let mut v = vec![
+                    num(p.max_tail_loss),
+                    num(p.expected_net_return),
+                    num(p.tail_loss),
+                    num(p.value_at_risk),
+                    num(p.budget_used),
+                ];
+                v.extend(p.allocation.iter().map(|i| num(i.fraction)));
+                v
+            })
+            .collect();
+        Rows { header, rows }
+    }
+}

@@ -1,0 +1,177 @@
+//! The answers asked for in the budget meeting, for a chosen allocation:
+//! the odds of reaching the target (beside doing nothing and the best
+//! expected-return plan), the stress presets, what drives the variance, and
+//! tracking against actuals. Composes the `target`, `stress`, `drivers` and
+//! `track` modules on one simulation, so every command and the report agree.
+
+use crate::allocate::{self, Allocation, SolveOptions};
+use crate::drivers::{self, DriverReport};
+use crate::error::Result;
+use crate::model_files;
+use crate::pipeline::Simulated;
+use crate::simulate::RunOptions;
+use crate::stress::{self, Case, ReportHead, StressPreset, StressReport};
+use crate::target::{self, Metric, Target, TargetReport};
+use crate::track::{self, TrackInput, TrackOptions, TrackReport};
+
+/// The plan's target, if it has one.
+pub fn target(s: &Simulated) -> Result<Option<Target>> {
+    Ok(Target::from_inputs(&s.inputs, &s.model)?)
+}
+
+/// The unconstrained best expected-return allocation (no tail-loss limit).
+pub fn best_allocation(s: &Simulated, opts: &SolveOptions) -> Result<Allocation> {
+    let mut p = s.problem();
+    p.max_tail_loss = None;
+    Ok(allocate::solve(&p, opts)?)
+}
+
+/// Target odds of doing nothing, the chosen plan and the best plan.
+pub fn target_report(
+    s: &Simulated,
+    chosen: &Allocation,
+    best: &Allocation,
+) -> Result<Option<TargetReport>> {
+    let Some(t) = target(s)? else { return Ok(None) };
+    let r = target::compare(
+        &t,
+        &s.model,
+        &s.futures,
+        &s.baseline_paths,
+        &s.fractions(chosen),
+        &s.fractions(best),
+        &s.inputs.plan.currency,
+    )?;
+    Ok(Some(r))
+}
+
+/// The presets to run: the plan's list, or every built-in preset.
+pub fn preset_names(s: &Simulated, asked: &[String]) -> Vec<String> {
+    if !asked.is_empty() {
+        return asked.to_vec();
+    }
+    match &s.inputs.plan.file.models.stress {
+        Some(list) => list.clone(),
+        None => stress::PRESET_NAMES.iter().map(|n| n.to_string()).collect(),
+    }
+}
+
+/// Loads a stress preset by name (or path) through the models folders.
+pub fn load_preset(s: &Simulated, name: &str) -> Result<StressPreset> {
+    let text = model_files::find(&s.inputs.plan, "stress", name)?;
+    let mut p = StressPreset::from_toml_str(&text.text, &text.origin)?;
+    if p.name.is_empty() {
+        p.name = name.to_string();
+    }
+    Ok(p)
+}
+
+/// Runs every preset on the chosen allocation and tabulates it against the base case.
+pub fn stress_report(
+    s: &Simulated,
+    chosen: &Allocation,
+    names: &[String],
+    max_memory: u64,
+) -> Result<StressReport> {
+    let fractions = s.fractions(chosen);
+    let t = target(s)?;
+    let level = s.inputs.plan.tail_level;
+    let base_case = Case {
+        name: "base",
+        description: "the plan as simulated",
+        model: &s.model,
+        futures: &s.futures,
+        baseline: Some(&s.baseline_paths),
+        notes: &[],
+    };
+    let base = stress::evaluate(&base_case, &fractions, level, t.as_ref())?;
+    let opts = RunOptions {
+        scenarios: s.futures.scenarios,
+        seed: s.inputs.plan.seed,
+        max_memory,
+        progress: None,
+    };
+    let mut rows = Vec::new();
+    for name in names {
+        let preset = load_preset(s, name)?;
+        let case = stress::run_preset(&preset, &s.model, Some(&s.baseline_paths), &opts)?;
+        let c = Case {
+            name: &preset.name,
+            description: &preset.description,
+            model: &case.model,
+            futures: &case.futures,
+            baseline: case.baseline.as_deref(),
+            notes: &case.notes,
+        };
+        rows.push(stress::evaluate(&c, &fractions, level, t.as_ref())?);
+    }
+    let head = ReportHead {
+        currency: &s.inputs.plan.currency,
+        tail_level: level,
+        scenarios: s.futures.scenarios,
+        spend: chosen.budget_used,
+        target: t.as_ref(),
+    };
+    Ok(stress::report(&head, base, rows))
+}
+
+/// What drives the variance of the chosen allocation's net return (and of
+/// the target metric's total, with the baseline error).
+pub fn drivers_report(s: &Simulated, chosen: &Allocation) -> Result<DriverReport> {
+    let metric = target(s)?.map(|t| t.metric).unwrap_or(Metric::Clicks);
+    Ok(drivers::drivers(
+        &s.model,
+        &s.futures,
+        &s.fractions(chosen),
+        Some((&s.baseline_paths, metric)),
+        &s.inputs.plan.currency,
+    )?)
+}
+
+/// Tracking of the actuals against the chosen allocation's forecast.
+pub fn track_report(
+    s: &Simulated,
+    chosen: &Allocation,
+    actuals: &crate::inputs::monthly::MonthlySeries,
+) -> Result<TrackReport> {
+    let t = target(s)?;
+    let metric = t.as_ref().map(|t| t.metric).unwrap_or(Metric::Clicks);
+    let values = track::actual_values(actuals, metric)?;
+    let sims = target::monthly_totals(&s.futures, &s.baseline_paths, &s.fractions(chosen), metric)?;
+    let months: Vec<crate::month::Month> = s.model.months.clone();
+    let input = TrackInput {
+        actuals: &values,
+        sims: &sims,
+        months: &months,
+        metric,
+        target: t.map(|t| t.amount),
+    };
+    Ok(track::track(&input, &TrackOptions::default())?)
+}
+
+/// Allocates against a mix of the base futures and the futures of preset
+/// `name`, with probability `stress_weight` on the stressed ones.
+pub fn allocate_under(
+    s: &Simulated,
+    name: &str,
+    stress_weight: f64,
+    opts: &SolveOptions,
+    max_memory: u64,
+) -> Result<Allocation> {
+    let preset = load_preset(s, name)?;
+    let run = RunOptions {
+        scenarios: s.futures.scenarios,
+        seed: s.inputs.plan.seed,
+        max_memory,
+        progress: None,
+    };
+    let case = stress::run_preset(&preset, &s.model, None, &run)?;
+    let base = crate::simulate::net_returns(&s.model, &s.futures);
+    let stressed = crate::simulate::net_returns(&case.model, &case.futures);
+    let mix = stress::mix_returns(&base, &stressed, s.futures.slots.len(), stress_weight)?;
+    let mut p = s.problem();
+    p.scenarios = mix.scenarios;
+    p.returns = mix.returns;
+    p.weights = Some(mix.weights);
+    Ok(allocate::solve(&p, opts)?)
+}
