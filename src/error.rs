@@ -159,10 +159,10 @@ pub enum Error {
     #[error("{0}")]
     Solver(String),
     /// The baseline forecast could not be made.
-    #[error("baseline: {0}")]
+    #[error(transparent)]
     Baseline(#[from] crate::baseline::BaselineError),
     /// The allocation could not be solved (exit 3 when infeasible).
-    #[error("allocation: {0}")]
+    #[error(transparent)]
     Allocate(#[from] crate::allocate::AllocError),
 }
 

@@ -62,9 +62,9 @@ method = "auto"              # auto, linear, seasonal-naive, holt, holt-winters-
 [economics]
 conversions = 2150           # conversions and sessions over a recent period give the
 sessions = 98400             # conversion rate with its uncertainty (or: conversion_rate = 0.021)
-order_value = 86.0           # average order value
+order_value = 110.0          # average order value
 order_value_spread = 6.0     # uncertainty (standard deviation) of that average over the horizon
-gross_margin = 0.42          # share of revenue kept as gross profit
+gross_margin = 0.45          # share of revenue kept as gross profit
 seasonality = "history"      # monthly search-volume shape: "history", "none" or 12 numbers
 # value_per_click = 0.9      # instead of the above, for lead-generation sites
 
@@ -73,7 +73,7 @@ metric = "clicks"            # "clicks" or "revenue", summed over the horizon
 growth = 0.20                # over the last 12 months of history (or: amount = 600000)
 
 [budget]
-total = 60000                # money to spread across the tiers below
+total = 12000                # money to spread across the tiers below
 tail_level = 0.90            # the tail is the worst 10 % of futures
 max_tail_loss = "10%"        # largest tolerated average loss in the tail (amount or % of total)
 
@@ -86,33 +86,33 @@ max_tail_loss = "10%"        # largest tolerated average loss in the tail (amoun
 name = "raised beds"
 start = "2027-02"
 tiers = [
-  { label = "refresh pages", cost = 5000, effort = 1.0 },
-  { label = "new guides", cost = 8000, effort = 1.0 },
-  { label = "outreach", cost = 12000, effort = 1.5 },
+  { label = "refresh pages", cost = 1800, effort = 1.0 },
+  { label = "new guides", cost = 1300, effort = 1.0 },
+  { label = "outreach", cost = 2600, effort = 1.5 },
 ]
 
 [[cluster]]
 name = "seed starting"
 start = "2027-01"
 tiers = [
-  { label = "refresh pages", cost = 4000, effort = 1.0 },
-  { label = "new guides", cost = 6500, effort = 1.0 },
+  { label = "refresh pages", cost = 1500, effort = 1.0 },
+  { label = "new guides", cost = 1100, effort = 1.0 },
 ]
 
 [[cluster]]
 name = "composting"
 start = "2027-03"
 tiers = [
-  { label = "refresh pages", cost = 4500, effort = 1.0 },
-  { label = "new guides", cost = 7000, effort = 1.0, gain = { distribution = "pert", min = 0, mode = 3, max = 10 } },
+  { label = "refresh pages", cost = 1600, effort = 1.0 },
+  { label = "new guides", cost = 1200, effort = 1.0, gain = { distribution = "pert", min = 0, mode = 3, max = 10 } },
 ]
 
 [[cluster]]
 name = "greenhouses"
 start = "2027-01"
 tiers = [
-  { label = "refresh pages", cost = 6000, effort = 1.0 },
-  { label = "new guides", cost = 9000, effort = 1.0 },
-  { label = "outreach", cost = 14000, effort = 1.5 },
+  { label = "refresh pages", cost = 2200, effort = 1.0 },
+  { label = "new guides", cost = 1500, effort = 1.0 },
+  { label = "outreach", cost = 3000, effort = 1.5 },
 ]
 "#;

@@ -25,6 +25,30 @@ pub const BUILTIN: &[(&str, &str)] = &[
         "rank-gain/default.toml",
         include_str!("../models/rank-gain/default.toml"),
     ),
+    (
+        "stress/ctr-erosion.toml",
+        include_str!("../models/stress/ctr-erosion.toml"),
+    ),
+    (
+        "stress/slower-gains.toml",
+        include_str!("../models/stress/slower-gains.toml"),
+    ),
+    (
+        "stress/ranking-shock.toml",
+        include_str!("../models/stress/ranking-shock.toml"),
+    ),
+    (
+        "stress/volume-drop.toml",
+        include_str!("../models/stress/volume-drop.toml"),
+    ),
+    (
+        "stress/weaker-conversion.toml",
+        include_str!("../models/stress/weaker-conversion.toml"),
+    ),
+    (
+        "stress/bad-year.toml",
+        include_str!("../models/stress/bad-year.toml"),
+    ),
 ];
 
 /// A model file's text and where it came from.

@@ -48,14 +48,18 @@ impl Render for AllocationOutput {
             .max_tail_loss
             .map(|v| money(v, cur))
             .unwrap_or_else(|| "none".into());
+        let worst = (1.0 - a.tail_level) * 100.0;
+        let tail = if a.tail_loss >= 0.0 {
+            format!("Tail loss (CVaR, average loss in the worst {worst:.0} % of futures): {} (limit {limit})", money(a.tail_loss, cur))
+        } else {
+            format!("Tail loss (CVaR): none; even the worst {worst:.0} % of futures gain {} on average (limit {limit})", money(-a.tail_loss, cur))
+        };
         out += &format!(
-            "\nBudget used: {} of {}\nExpected net return: {} (ROI {})\nTail loss (CVaR, average loss in the worst {:.0} % of futures): {} (limit {limit})\nValue at risk at the same level: {}\nChance of a loss: {}\n",
+            "\nBudget used: {} of {}\nExpected net return: {} (ROI {})\n{tail}\nValue at risk at the same level: {}\nChance of a loss: {}\n",
             money(a.budget_used, cur),
             money(a.budget, cur),
             money(a.expected_net_return, cur),
             ratio(a.expected_roi),
-            (1.0 - a.tail_level) * 100.0,
-            money(a.tail_loss, cur),
             money(a.value_at_risk, cur),
             pct(a.chance_of_loss, 1),
         );
