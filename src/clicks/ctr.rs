@@ -247,6 +247,9 @@ pub const LOOKUP_STEPS: usize = 4096;
 #[derive(Debug, Clone, PartialEq)]
 pub struct CtrLookup {
     table: Vec<f64>,
+    /// Per cell: the value at its left edge and the slope to its right edge
+    /// (one load and one bounds check per look-up).
+    cells: Vec<[f64; 2]>,
     scale: f64,
     steps: usize,
     ln_max: f64,
@@ -269,8 +272,10 @@ impl CtrLookup {
             .collect();
         table[0] = curve.ctr(1.0);
         table[steps] = curve.ctr(MAX_POSITION);
+        let cells = table.windows(2).map(|w| [w[0], w[1] - w[0]]).collect();
         CtrLookup {
             table,
+            cells,
             scale: steps as f64 / ln_max,
             steps,
             ln_max,
@@ -291,17 +296,19 @@ impl CtrLookup {
     /// model works in log-position, so the hot loop can skip the `ln`).
     #[inline]
     pub fn ctr_ln(&self, ln_position: f64) -> f64 {
-        if ln_position.is_nan() || ln_position > self.ln_max {
+        // `!(x <= max)` is also true for NaN: past position 100 or NaN, 0.
+        #[allow(clippy::neg_cmp_op_on_partial_ord)]
+        if !(ln_position <= self.ln_max) {
             return 0.0;
         }
-        // Clamp in floating point first: a float-to-int cast of a value
-        // known to be in range is cheap, while a saturating `as usize` of an
-        // unknown value costs many instructions (this is the hot loop).
-        let x = (ln_position.max(0.0) * self.scale).min(self.last_cell);
+        // Clamp with plain comparisons (f64::max/min carry NaN rules that
+        // cost instructions here) so the float-to-int cast is in range.
+        let x = ln_position * self.scale;
+        let x = if x > 0.0 { x } else { 0.0 };
+        let x = if x < self.last_cell { x } else { self.last_cell };
         let i = x as u32 as usize;
-        let f = x - i as f64;
-        let (a, b) = (self.table[i], self.table[i + 1]);
-        a + (b - a) * f
+        let [a, slope] = self.cells[i];
+        a + slope * (x - i as f64)
     }
 
     /// The largest difference between adjacent table entries: a bound on
