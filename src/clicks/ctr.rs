@@ -236,6 +236,7 @@ fn check_tail(ctr: &[f64], tail: &[[f64; 2]], origin: &str) -> Result<(), Clicks
 }
 
 /// Number of grid steps a [`CtrLookup`] uses by default.
+/// A power of two, so an index can be masked into the table.
 pub const LOOKUP_STEPS: usize = 4096;
 
 /// A curve tabulated on an even grid in log-position over [ln 1, ln 100],
@@ -249,7 +250,7 @@ pub struct CtrLookup {
     table: Vec<f64>,
     /// Per cell: the value at its left edge and the slope to its right edge
     /// (one load and one bounds check per look-up).
-    cells: Vec<[f64; 2]>,
+    cells: Box<[[f64; 2]; LOOKUP_STEPS]>,
     scale: f64,
     steps: usize,
     ln_max: f64,
@@ -260,19 +261,17 @@ pub struct CtrLookup {
 impl CtrLookup {
     /// Tabulates `curve` with [`LOOKUP_STEPS`] steps.
     pub fn new(curve: &CtrCurve) -> CtrLookup {
-        CtrLookup::with_steps(curve, LOOKUP_STEPS)
-    }
-
-    /// Tabulates `curve` with `steps` steps (at least 1).
-    pub fn with_steps(curve: &CtrCurve, steps: usize) -> CtrLookup {
-        let steps = steps.max(1);
+        let steps = LOOKUP_STEPS;
         let ln_max = MAX_POSITION.ln();
         let mut table: Vec<f64> = (0..=steps)
             .map(|j| curve.ctr((j as f64 * ln_max / steps as f64).exp()))
             .collect();
         table[0] = curve.ctr(1.0);
         table[steps] = curve.ctr(MAX_POSITION);
-        let cells = table.windows(2).map(|w| [w[0], w[1] - w[0]]).collect();
+        let mut cells = Box::new([[0.0; 2]; LOOKUP_STEPS]);
+        for (c, w) in cells.iter_mut().zip(table.windows(2)) {
+            *c = [w[0], w[1] - w[0]];
+        }
         CtrLookup {
             table,
             cells,
@@ -306,7 +305,9 @@ impl CtrLookup {
         let x = ln_position * self.scale;
         let x = if x > 0.0 { x } else { 0.0 };
         let x = if x < self.last_cell { x } else { self.last_cell };
-        let i = x as u32 as usize;
+        // The mask keeps the index provably inside the fixed-size table (no
+        // bounds check); the clamp above already put it there.
+        let i = (x as u32 as usize) & (LOOKUP_STEPS - 1);
         let [a, slope] = self.cells[i];
         a + slope * (x - i as f64)
     }
