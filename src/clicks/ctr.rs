@@ -304,7 +304,11 @@ impl CtrLookup {
         // cost instructions here) so the float-to-int cast is in range.
         let x = ln_position * self.scale;
         let x = if x > 0.0 { x } else { 0.0 };
-        let x = if x < self.last_cell { x } else { self.last_cell };
+        let x = if x < self.last_cell {
+            x
+        } else {
+            self.last_cell
+        };
         // The mask keeps the index provably inside the fixed-size table (no
         // bounds check); the clamp above already put it there.
         let i = (x as u32 as usize) & (LOOKUP_STEPS - 1);
