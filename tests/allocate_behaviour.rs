@@ -431,3 +431,129 @@ fn binding_constraints_are_named_in_plain_words() {
         free.binding
     );
 }
+
+fn with_method(method: SolveMethod) -> SolveOptions {
+    SolveOptions {
+        method,
+        ..Default::default()
+    }
+}
+
+/// Solves `p` at `limit` with the full LP and with cutting planes; both must
+/// answer, meet the limit, and agree on the optimum to 1e-7 relative (the
+/// two are formulations of the same LP: Künzi-Bay & Mayer 2006, §3).
+fn full_and_cuts_agree(p: &Problem, limit: f64, scale: f64, what: &str) {
+    let mut q = p.clone();
+    q.max_tail_loss = Some(limit);
+    let full = solve(&q, &with_method(SolveMethod::Full))
+        .unwrap_or_else(|e| panic!("{what}: full LP at limit {limit}: {e:?}"));
+    let cuts = solve(&q, &with_method(SolveMethod::Cuts))
+        .unwrap_or_else(|e| panic!("{what}: cuts at limit {limit}: {e:?}"));
+    assert_eq!(cuts.method_used, "cuts", "{what}");
+    for a in [&full, &cuts] {
+        assert!(
+            a.tail_loss <= limit + 1e-7 * scale,
+            "{what}: {}",
+            a.tail_loss
+        );
+    }
+    assert!(
+        (full.expected_net_return - cuts.expected_net_return).abs() <= 1e-7 * scale,
+        "{what} limit {limit}: full {} cuts {}",
+        full.expected_net_return,
+        cuts.expected_net_return
+    );
+}
+
+/// Regression: after the seeded streams changed, a direct solve at the last
+/// frontier limit (the unconstrained optimum's tail loss) of this instance
+/// failed with `CutsDidNotConverge { rounds: 0, .. }`. The last cutting-plane
+/// round at that limit met the tolerance without adding its tail set's cut,
+/// yet the tail set was recorded as seen; the next re-solve (a moved budget,
+/// for the duals) met the same tail set with a real violation and took it for
+/// a cut already in the master.
+#[test]
+fn cuts_never_stop_on_a_tail_set_whose_cut_was_never_added() {
+    let p = tiered_instance(SyntheticSpec {
+        clusters: 4,
+        tiers: 3,
+        scenarios: 300,
+        seed: 4,
+    });
+    let pts = frontier(&p, 6, &with_method(SolveMethod::Full)).expect("frontier");
+    let scale = pts[5].expected_net_return.abs().max(1.0);
+    for pt in &pts {
+        full_and_cuts_agree(&p, pt.max_tail_loss, scale, "seed 4");
+    }
+}
+
+/// Seeds × limits from the smallest achievable tail loss to beyond the
+/// unconstrained optimum's: the cutting-plane method never errors and agrees
+/// with the full LP.
+#[test]
+fn cuts_and_full_lp_agree_over_seeds_and_tail_loss_limits() {
+    for seed in [1u64, 2, 4, 7, 11] {
+        let p = tiered_instance(SyntheticSpec {
+            clusters: 4,
+            tiers: 3,
+            scenarios: 200,
+            seed,
+        });
+        let full = with_method(SolveMethod::Full);
+        let lo = min_tail_loss(&p, &full).expect("min");
+        let free = solve(&p, &full).expect("free");
+        let scale = free.expected_net_return.abs().max(1.0);
+        for share in [0.05, 0.3, 0.6, 0.9, 1.0, 1.4] {
+            let limit = lo + share * (free.tail_loss - lo);
+            full_and_cuts_agree(&p, limit, scale, &format!("seed {seed} share {share}"));
+        }
+    }
+}
+
+/// When the cutting-plane method cannot converge (here: a round limit of one
+/// cut), `auto` answers with the full LP and says so, and a forced
+/// `--method cuts` fails with a message naming the cause and the way out.
+#[test]
+fn auto_falls_back_to_the_full_lp_when_cuts_cannot_converge() {
+    let mut p = tiered_instance(SyntheticSpec {
+        clusters: 4,
+        tiers: 3,
+        scenarios: 300,
+        seed: 4,
+    });
+    assert!(p.scenarios * p.n() > furrow::allocate::AUTO_FULL_LIMIT);
+    let lo = min_tail_loss(&p, &SolveOptions::default()).expect("min");
+    let hi = solve(&p, &SolveOptions::default()).expect("free").tail_loss;
+    p.max_tail_loss = Some(0.5 * (lo + hi));
+    let reference = solve(&p, &with_method(SolveMethod::Full)).expect("full");
+    let few = SolveOptions {
+        max_cut_rounds: 1,
+        ..Default::default()
+    };
+    let auto = solve(&p, &few).expect("auto falls back");
+    assert_eq!(auto.method_used, "full");
+    assert_eq!(auto.cuts_rounds, None);
+    assert!(
+        auto.explanation
+            .iter()
+            .any(|l| l.contains("cutting-plane method") && l.contains("full LP")),
+        "{:?}",
+        auto.explanation
+    );
+    let scale = reference.expected_net_return.abs().max(1.0);
+    assert!((auto.expected_net_return - reference.expected_net_return).abs() <= 1e-7 * scale);
+    let forced = SolveOptions {
+        method: SolveMethod::Cuts,
+        ..few
+    };
+    let e = solve(&p, &forced).expect_err("forced cuts cannot converge in one cut");
+    assert!(
+        matches!(e, AllocError::CutsDidNotConverge { rounds: 1, .. }),
+        "{e:?}"
+    );
+    let msg = e.to_string();
+    assert!(
+        msg.contains("max_cut_rounds") && msg.contains("--method full"),
+        "{msg}"
+    );
+}

@@ -10,12 +10,17 @@
 //! futures with a loss above `eta` form `K`, and its cut is added when the
 //! master's `w` underestimates the excess. There are finitely many `K`, so the
 //! loop ends; it stops when the violation is within tolerance.
+//!
+//! A tail set met within tolerance adds no cut, so it is not recorded as
+//! seen: at another budget or limit the same set may be violated and need its
+//! cut (recording it anyway once made a later re-solve stop at round 0,
+//! taking the missing cut for one already in the master).
 
 use super::master::Master;
 use super::model::{cut_row, Columns, Cut, Layout};
 use super::problem::{sum_in_order, Problem, BLOCK};
 use rayon::prelude::*;
-use std::collections::HashSet;
+use std::collections::HashMap;
 use std::time::Instant;
 
 /// The cut of the futures whose loss exceeds `eta`, its excess
@@ -87,44 +92,84 @@ pub(crate) struct CutContext<'a> {
     pub scale_floor: f64,
 }
 
+/// The tail sets whose cut is in the pool: signature to the cut's index in
+/// the pool. Only cuts actually added are recorded (a tail set met within
+/// tolerance adds no cut, and may need one at another budget or limit), and a
+/// repeat is confirmed by comparing the cut itself, so a signature collision
+/// is never taken for a repeat.
+pub(crate) type Seen = HashMap<u64, usize>;
+
 /// Result of a converged loop.
 pub(crate) struct CutResult {
     pub values: Vec<f64>,
     pub fractions: Vec<f64>,
+    /// Cuts added by this loop.
     pub rounds: usize,
+}
+
+/// Why the loop stopped without converging.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum NoConvergence {
+    /// Another cut was needed after `max_rounds` cuts.
+    RoundLimit { max_rounds: usize },
+    /// The master kept breaking a cut it holds, also after a cold re-solve.
+    CutIgnored,
+}
+
+impl NoConvergence {
+    /// Plain words for the error message.
+    pub fn describe(self) -> String {
+        match self {
+            NoConvergence::RoundLimit { max_rounds } => format!(
+                "another cut was needed after the limit of {max_rounds} cuts \
+                 (max_cut_rounds)"
+            ),
+            NoConvergence::CutIgnored => "the master LP returned a point that breaks a cut it \
+                 already holds, also when re-solved from scratch (numerical trouble in the LP \
+                 backend)"
+                .to_string(),
+        }
+    }
 }
 
 /// Why the loop stopped without an answer.
 pub(crate) enum CutStop {
     Lp(super::lp::LpFailure),
-    NoConvergence { rounds: usize, violation: f64 },
+    NoConvergence {
+        rounds: usize,
+        violation: f64,
+        why: NoConvergence,
+    },
 }
 
 /// Solves the master, adding cuts until the CVaR representation is exact
-/// within tolerance. New cuts are appended to `pool` and their signatures to
-/// `seen`.
+/// within tolerance. New cuts are appended to `pool` and recorded in `seen`.
+///
+/// If the master's point breaks a cut it already holds by more than the LP's
+/// rounding, its warm-started basis is not trusted: the master is re-solved
+/// from scratch once before the loop gives up.
 pub(crate) fn run(
     ctx: &CutContext,
     master: &mut Master,
     pool: &mut Vec<Cut>,
-    seen: &mut HashSet<u64>,
+    seen: &mut Seen,
     limit: Option<f64>,
 ) -> Result<CutResult, CutStop> {
-    let mut last = 0.0;
-    for rounds in 0..=ctx.max_rounds {
+    let (mut added, mut restarted) = (0, false);
+    loop {
         let values = master.values(ctx.deadline).map_err(CutStop::Lp)?;
         let fractions = ctx.cols.fractions(&pick(&values, &ctx.layout.x));
         let Some(check) = examine(ctx, &values, &fractions, limit) else {
             return Ok(CutResult {
                 values,
                 fractions,
-                rounds,
+                rounds: added,
             });
         };
-        let repeated = !seen.insert(check.signature);
-        // A repeated tail is already in the master: what remains is the LP's
-        // own rounding, accepted up to a looser bound.
-        let accept = if repeated {
+        let held = holds(pool, seen, &check);
+        // A cut the master holds can only be broken by the LP's own
+        // rounding, accepted up to a looser bound.
+        let accept = if held {
             1e-6 * check.scale
         } else {
             check.tolerance
@@ -133,24 +178,39 @@ pub(crate) fn run(
             return Ok(CutResult {
                 values,
                 fractions,
-                rounds,
+                rounds: added,
             });
         }
-        if repeated {
-            return Err(CutStop::NoConvergence {
-                rounds,
-                violation: check.violation,
-            });
+        let stop = |why| CutStop::NoConvergence {
+            rounds: added,
+            violation: check.violation,
+            why,
+        };
+        if held && restarted {
+            return Err(stop(NoConvergence::CutIgnored));
+        }
+        if held {
+            master.restart();
+            restarted = true;
+            continue;
+        }
+        if added >= ctx.max_rounds {
+            return Err(stop(NoConvergence::RoundLimit {
+                max_rounds: ctx.max_rounds,
+            }));
         }
         master.add_row(cut_row(&check.cut, ctx.layout, ctx.cols));
+        seen.insert(check.signature, pool.len());
         pool.push(check.cut);
         master.pool_cuts = pool.len();
-        last = check.violation;
+        (added, restarted) = (added + 1, false);
     }
-    Err(CutStop::NoConvergence {
-        rounds: ctx.max_rounds,
-        violation: last,
-    })
+}
+
+/// Whether the cut of `check` is already in the pool (and so in the master).
+fn holds(pool: &[Cut], seen: &Seen, check: &Check) -> bool {
+    seen.get(&check.signature)
+        .is_some_and(|&k| pool.get(k) == Some(&check.cut))
 }
 
 /// The most violated cut at the master's point.
@@ -189,4 +249,161 @@ pub(crate) fn risk_scale(p: &Problem, losses: &[f64], limit: Option<f64>) -> f64
 
 pub(crate) fn pick(values: &[f64], idx: &[usize]) -> Vec<f64> {
     idx.iter().map(|&j| values[j]).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::allocate::cvar::cvar_of_losses;
+    use crate::allocate::lp::{solve_lp, Backend};
+    use crate::allocate::model::{build_full, build_master, mean_cut, Goal, Ranges};
+    use crate::allocate::synthetic::{tiered_instance, SyntheticSpec};
+
+    /// A minimum-CVaR master holding only the mean cut, and its context.
+    struct Setup {
+        p: Problem,
+        cols: Columns,
+        means: Vec<f64>,
+    }
+
+    fn setup() -> Setup {
+        let p = tiered_instance(SyntheticSpec {
+            clusters: 3,
+            tiers: 2,
+            scenarios: 80,
+            seed: 3,
+        });
+        Setup {
+            cols: Columns::new(&p, false),
+            means: p.mean_returns(),
+            p,
+        }
+    }
+
+    impl Setup {
+        fn master(&self, pool: &[Cut]) -> (Master, Layout) {
+            let r = Ranges::new(&self.p);
+            let (lp, layout) = build_master(
+                &self.p,
+                &self.cols,
+                Goal::MinTailLoss,
+                &self.means,
+                0.0,
+                r,
+                pool,
+            );
+            (Master::new(lp, Backend::Microlp), layout)
+        }
+
+        fn ctx<'a>(&'a self, layout: &'a Layout, max_rounds: usize) -> CutContext<'a> {
+            CutContext {
+                p: &self.p,
+                cols: &self.cols,
+                layout,
+                tolerance: 1e-9,
+                max_rounds,
+                deadline: None,
+                scale_floor: 1e-3 * self.p.typical_loss(),
+            }
+        }
+
+        /// The tail set's cut and signature at the master's current point.
+        fn tail_cut(&self, master: &mut Master, layout: &Layout) -> (Cut, u64) {
+            let values = master.values(None).expect("master solves");
+            let x = self.cols.fractions(&pick(&values, &layout.x));
+            let eta = values[layout.eta.expect("eta")];
+            let (cut, _, sig) = aggregate(&self.p, &self.p.losses(&x), eta);
+            (cut, sig)
+        }
+    }
+
+    /// The bug behind `CutsDidNotConverge { rounds: 0 }`: a tail set recorded
+    /// as seen whose cut is not in the pool must get its cut, not stop the
+    /// loop. The converged minimum is checked against the full LP of
+    /// Rockafellar & Uryasev (2000) and against the CVaR recomputed from the
+    /// scenarios.
+    #[test]
+    fn a_seen_tail_set_without_its_cut_in_the_pool_is_not_a_repeat() {
+        let s = setup();
+        let mut pool = vec![mean_cut(&s.means)];
+        let (mut master, layout) = s.master(&pool);
+        let (cut, sig) = s.tail_cut(&mut master, &layout);
+        assert_ne!(pool[0], cut);
+        let mut seen = Seen::from([(sig, 0)]);
+        let r = run(
+            &s.ctx(&layout, 500),
+            &mut master,
+            &mut pool,
+            &mut seen,
+            None,
+        )
+        .unwrap_or_else(|_| panic!("the loop stopped"));
+        assert!(r.rounds >= 1);
+        assert_eq!(pool.len(), 1 + r.rounds);
+        // The first cut added is the one the stale entry pretended to hold.
+        assert_eq!(pool[1], cut);
+        assert_eq!(seen.get(&sig), Some(&1));
+        assert!(seen.values().all(|&k| k >= 1 && k < pool.len()));
+        let k = 1.0 / (1.0 - s.p.tail_level);
+        let ours = r.values[layout.eta.expect("eta")] + k * r.values[layout.w.expect("w")];
+        let (full, _) = build_full(
+            &s.p,
+            &s.cols,
+            Goal::MinTailLoss,
+            &s.means,
+            0.0,
+            Ranges::new(&s.p),
+        );
+        let reference = solve_lp(&full, Backend::Microlp, None).expect("full LP");
+        let scale = reference.objective.abs().max(1.0);
+        assert!((ours - reference.objective).abs() <= 1e-7 * scale);
+        let recomputed = cvar_of_losses(&s.p.losses(&r.fractions), None, s.p.tail_level).1;
+        assert!((recomputed - reference.objective).abs() <= 1e-7 * scale);
+    }
+
+    /// A cut the pool says the master holds but the master's point breaks
+    /// (here the master was built without it): one re-solve from scratch,
+    /// then a stop that says so, never an endless loop or a wrong answer.
+    #[test]
+    fn a_held_cut_the_master_breaks_stops_after_one_cold_retry() {
+        let s = setup();
+        let mut pool = vec![mean_cut(&s.means)];
+        let (mut master, layout) = s.master(&pool);
+        let (cut, sig) = s.tail_cut(&mut master, &layout);
+        pool.push(cut);
+        let mut seen = Seen::from([(sig, 1)]);
+        let r = run(
+            &s.ctx(&layout, 500),
+            &mut master,
+            &mut pool,
+            &mut seen,
+            None,
+        );
+        match r {
+            Err(CutStop::NoConvergence {
+                rounds: 0,
+                violation,
+                why: NoConvergence::CutIgnored,
+            }) => assert!(violation > 0.0),
+            _ => panic!("expected a CutIgnored stop"),
+        }
+        assert_eq!(pool.len(), 2);
+    }
+
+    /// The round limit counts cuts added: with a limit of one, exactly one cut
+    /// is added before the stop, and the reason names the option.
+    #[test]
+    fn the_round_limit_counts_cuts_and_names_the_option() {
+        let s = setup();
+        let mut pool = vec![mean_cut(&s.means)];
+        let (mut master, layout) = s.master(&pool);
+        let mut seen = Seen::new();
+        let r = run(&s.ctx(&layout, 1), &mut master, &mut pool, &mut seen, None);
+        let Err(CutStop::NoConvergence { rounds, why, .. }) = r else {
+            panic!("one cut cannot be enough here");
+        };
+        assert_eq!((rounds, pool.len(), seen.len()), (1, 2, 1));
+        assert_eq!(why, NoConvergence::RoundLimit { max_rounds: 1 });
+        assert!(why.describe().contains("max_cut_rounds"));
+    }
 }

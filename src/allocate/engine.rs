@@ -5,16 +5,17 @@
 //! limit. Cuts stay valid whatever the budget and the limit (they describe
 //! the CVaR function, not the feasible set), so every master starts from all
 //! cuts found so far, and with microlp the master is re-optimised from its
-//! last basis.
+//! last basis. If the cutting-plane method cannot converge, `auto` falls back
+//! to the full LP (and says so); a forced `cuts` reports why it stopped.
 
-use super::cuts::{self, CutContext, CutStop};
+use super::cuts::{self, CutContext, CutStop, Seen};
 use super::error::AllocError;
 use super::lp::{solve_lp, LpFailure};
 use super::master::{remaining, Master};
 use super::model::{build_full, build_master, mean_cut, Columns, Cut, Goal, Layout, Ranges};
 use super::problem::Problem;
 use super::solve::{SolveMethod, SolveOptions};
-use std::collections::{HashMap, HashSet};
+use std::collections::HashMap;
 use std::time::Instant;
 
 /// Above this many `futures × ids` the automatic choice is the cutting-plane
@@ -70,10 +71,13 @@ pub(crate) struct Engine<'a> {
     ranges: Ranges,
     deadline: Option<Instant>,
     pool: Vec<Cut>,
-    seen: HashSet<u64>,
+    seen: Seen,
     masters: HashMap<Goal, (Master, Layout)>,
     pub last_rounds: usize,
     scale_floor: f64,
+    /// Set when `auto` gave up on cutting planes for the full LP: why, in
+    /// plain words for the report.
+    pub fallback: Option<String>,
 }
 
 impl<'a> Engine<'a> {
@@ -86,7 +90,8 @@ impl<'a> Engine<'a> {
             means,
             ranges: Ranges::new(p),
             deadline: opts.time_limit.map(|t| Instant::now() + t),
-            seen: HashSet::new(),
+            seen: Seen::new(),
+            fallback: None,
             masters: HashMap::new(),
             last_rounds: 0,
             scale_floor: 1e-3 * p.typical_loss(),
@@ -128,10 +133,28 @@ impl<'a> Engine<'a> {
         budget: f64,
         limit: Option<f64>,
     ) -> Result<(Vec<f64>, f64), Failure> {
-        match self.method {
-            Method::Full => self.run_full(goal, budget, limit),
-            Method::Cuts => self.run_cuts(goal, budget, limit),
+        if self.method == Method::Full {
+            return self.run_full(goal, budget, limit);
         }
+        match self.run_cuts(goal, budget, limit) {
+            Err(Failure::Error(AllocError::CutsDidNotConverge { reason, .. }))
+                if self.opts.method == SolveMethod::Auto =>
+            {
+                self.fall_back(&reason);
+                self.run_full(goal, budget, limit)
+            }
+            other => other,
+        }
+    }
+
+    /// Switches `auto` to the full LP for this and every later solve.
+    fn fall_back(&mut self, reason: &str) {
+        self.method = Method::Full;
+        self.masters.clear();
+        self.fallback = Some(format!(
+            "The cutting-plane method stopped without converging ({reason}), so the full LP \
+             of Rockafellar & Uryasev was solved instead."
+        ));
     }
 
     fn run_full(
@@ -196,9 +219,16 @@ impl<'a> Engine<'a> {
         match cuts::run(&ctx, master, &mut self.pool, &mut self.seen, limit) {
             Ok(r) => Ok(r),
             Err(CutStop::Lp(e)) => Err(self.lp_failure(e)),
-            Err(CutStop::NoConvergence { rounds, violation }) => {
-                Err(AllocError::CutsDidNotConverge { rounds, violation }.into())
+            Err(CutStop::NoConvergence {
+                rounds,
+                violation,
+                why,
+            }) => Err(AllocError::CutsDidNotConverge {
+                rounds,
+                violation,
+                reason: why.describe(),
             }
+            .into()),
         }
     }
 

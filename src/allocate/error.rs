@@ -67,16 +67,20 @@ pub enum AllocError {
         status: String,
     },
 
-    /// The cutting-plane loop hit its round limit.
+    /// The cutting-plane method stopped without converging. `--method auto`
+    /// never returns this: it answers with the full LP instead.
     #[error(
-        "the cutting-plane method did not converge in {rounds} rounds (largest tail-loss \
-         violation {violation:.3e}); use --method full"
+        "--method cuts: the cutting-plane method stopped without converging after {rounds} \
+         cuts: {reason}; its model of the tail still misses an excess loss of \
+         {violation:.3e}; use --method full, or --method auto, which falls back to the full LP"
     )]
     CutsDidNotConverge {
-        /// Rounds performed.
+        /// Cuts added before stopping.
         rounds: usize,
         /// Remaining violation of the tail-loss representation.
         violation: f64,
+        /// Why it stopped, in plain words.
+        reason: String,
     },
 
     /// The backend was not compiled in.

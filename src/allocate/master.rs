@@ -62,6 +62,13 @@ impl Master {
         self.lp.rows.push(row);
     }
 
+    /// Drops the warm-started model and any cached answer, so that the next
+    /// request solves the stored program from scratch.
+    pub fn restart(&mut self) {
+        self.warm = None;
+        self.cached = None;
+    }
+
     /// Pins `column` to `value` (re-optimising at once when warm).
     pub fn fix(&mut self, column: usize, value: f64) {
         if self.lp.columns[column].fixed == Some(value) {

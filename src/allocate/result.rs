@@ -62,7 +62,9 @@ pub struct Allocation {
     pub binding: Vec<String>,
     /// Fraction and spend per id, in input order.
     pub allocation: Vec<Item>,
-    /// `"full"` or `"cuts"`.
+    /// `"full"` or `"cuts"`: the method that found the optimum. When `auto`
+    /// fell back from cutting planes to the full LP this is `"full"` and the
+    /// explanation says why.
     pub method_used: String,
     /// LP backend.
     pub backend: String,
@@ -92,6 +94,8 @@ pub(crate) struct Provenance {
     pub whole_tiers_gap: Option<f64>,
     pub duals: Duals,
     pub dual_method: String,
+    /// Lines added to the explanation (a fallback from cutting planes).
+    pub notes: Vec<String>,
 }
 
 /// Share of a bound within which a fraction counts as at the bound.
@@ -132,6 +136,7 @@ pub(crate) fn assemble(p: &Problem, means: &[f64], x: &[f64], how: Provenance) -
     };
     a.binding = binding(p, x, &a);
     a.explanation = explain(p, means, &a);
+    a.explanation.extend(how.notes);
     a
 }
 

@@ -100,27 +100,72 @@ impl SolveOptions {
 pub fn solve(p: &Problem, opts: &SolveOptions) -> Result<Allocation, AllocError> {
     p.validate()?;
     opts.validate()?;
-    let mut cont = Engine::new(p, opts, false);
-    let base = optimum(&mut cont, p, opts)?;
-    let rounds = (cont.method == Method::Cuts).then_some(cont.last_rounds);
-    let duals =
-        duals::estimate(&mut cont, p, &base, opts.dual_step).map_err(|f| infeasible(f, p, opts))?;
-    let mut how = provenance(&cont, opts, duals, rounds);
-    let mut x = polish(p, &base.x, p.max_tail_loss, &mut cont);
+    let Continuous {
+        mut engine,
+        base,
+        duals,
+        rounds,
+    } = continuous(p, opts)?;
+    let mut how = provenance(&engine, opts, duals, rounds);
+    let mut x = polish(p, &base.x, p.max_tail_loss, &mut engine);
+    add_note(&mut how, engine.fallback.take());
     if opts.whole_tiers {
         let whole = solve_whole(p, opts, base.objective)?;
-        how.whole_tiers_gap = Some((base.objective - whole.0.objective).max(0.0));
-        how.method = whole.1.name().to_string();
-        how.cuts_rounds = whole.2;
+        how.whole_tiers_gap = Some((base.objective - whole.point.objective).max(0.0));
+        how.method = whole.method.name().to_string();
+        how.cuts_rounds = whole.rounds;
         how.dual_method = format!(
             "{} of the continuous relaxation (whole tiers have no duals)",
             duals::METHOD
         );
-        x = whole.0.x;
+        add_note(&mut how, whole.fallback);
+        x = whole.point.x;
     }
-    let a = assemble(p, cont.means(), &x, how);
+    let a = assemble(p, engine.means(), &x, how);
     verify(p, &a, opts.verify_tolerance)?;
     Ok(a)
+}
+
+/// The continuous optimum, its duals, the engine that found them and its cut
+/// rounds.
+struct Continuous<'a> {
+    engine: Engine<'a>,
+    base: Point,
+    duals: Duals,
+    rounds: Option<usize>,
+}
+
+/// Solves for the optimum and its duals. If `auto` fell back from cutting
+/// planes to the full LP after the optimum was found (while re-solving for the
+/// duals), both are solved again with the full LP, so that the reported
+/// optimum, duals and method all come from one method.
+fn continuous<'a>(p: &'a Problem, opts: &'a SolveOptions) -> Result<Continuous<'a>, AllocError> {
+    let mut engine = Engine::new(p, opts, false);
+    let base = optimum(&mut engine, p, opts)?;
+    let method = engine.method;
+    let rounds = (method == Method::Cuts).then_some(engine.last_rounds);
+    let duals = duals::estimate(&mut engine, p, &base, opts.dual_step)
+        .map_err(|f| infeasible(f, p, opts))?;
+    if engine.method == method {
+        return Ok(Continuous {
+            engine,
+            base,
+            duals,
+            rounds,
+        });
+    }
+    let mut full = Engine::new(p, opts, false);
+    full.method = Method::Full;
+    full.fallback = engine.fallback.take();
+    let base = optimum(&mut full, p, opts)?;
+    let duals =
+        duals::estimate(&mut full, p, &base, opts.dual_step).map_err(|f| infeasible(f, p, opts))?;
+    Ok(Continuous {
+        engine: full,
+        base,
+        duals,
+        rounds: None,
+    })
 }
 
 fn optimum(engine: &mut Engine, p: &Problem, opts: &SolveOptions) -> Result<Point, AllocError> {
@@ -142,15 +187,27 @@ fn provenance(
         whole_tiers_gap: None,
         duals,
         dual_method: duals::METHOD.to_string(),
+        notes: engine.fallback.iter().cloned().collect(),
     }
 }
 
-/// The whole-tier optimum, its method and cut rounds.
-fn solve_whole(
-    p: &Problem,
-    opts: &SolveOptions,
-    continuous: f64,
-) -> Result<(Point, Method, Option<usize>), AllocError> {
+/// Adds a fallback note to the report once.
+fn add_note(how: &mut Provenance, note: Option<String>) {
+    if let Some(n) = note.filter(|n| !how.notes.contains(n)) {
+        how.notes.push(n);
+    }
+}
+
+/// The whole-tier optimum, the method that found it, its cut rounds and the
+/// fallback note if `auto` gave up on cutting planes.
+struct Whole {
+    point: Point,
+    method: Method,
+    rounds: Option<usize>,
+    fallback: Option<String>,
+}
+
+fn solve_whole(p: &Problem, opts: &SolveOptions, continuous: f64) -> Result<Whole, AllocError> {
     if p.n() > opts.max_binary_vars {
         return Err(AllocError::WholeTiersTooLarge {
             variables: p.n(),
@@ -160,8 +217,12 @@ fn solve_whole(
     }
     let mut engine = Engine::new(p, opts, true);
     let point = optimum(&mut engine, p, opts)?;
-    let rounds = (engine.method == Method::Cuts).then_some(engine.last_rounds);
-    Ok((point, engine.method, rounds))
+    Ok(Whole {
+        point,
+        method: engine.method,
+        rounds: (engine.method == Method::Cuts).then_some(engine.last_rounds),
+        fallback: engine.fallback,
+    })
 }
 
 /// Turns a failure into the error to report; infeasibility becomes
