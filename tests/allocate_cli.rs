@@ -51,7 +51,7 @@ fn dumped_futures_allocate_exactly_like_the_plan() {
             "--costs",
             "f.costs.csv",
             "--budget",
-            "60000",
+            "12000",
             "--max-tail-loss",
             "3000",
             "--format",
