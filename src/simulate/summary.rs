@@ -10,6 +10,7 @@ use super::engine::Futures;
 use super::model::Model;
 use crate::clicks::{return_on_spend, roi, SiteDraw};
 use crate::stats::{share_negative, summarise, Stats};
+use rayon::prelude::*;
 use serde::Serialize;
 
 /// Revenue per click in one future.
@@ -105,22 +106,28 @@ fn outcome(clicks: Vec<f64>, sites: &[SiteDraw], margin: f64, cost: f64) -> Outc
 /// Summarises futures per tier and for the portfolio of all first tiers.
 pub fn summarise_futures(model: &Model, f: &Futures, seed: u64, currency: &str) -> SimSummary {
     let margin = model.economics.margin;
-    let mut tiers = Vec::with_capacity(f.slots.len());
-    for (j, &(c, t)) in f.slots.iter().enumerate() {
-        let cl = &model.clusters[c];
-        let cost = cl.tiers[t].cost;
-        let cum_cost: f64 = cl.tiers[..=t].iter().map(|x| x.cost).sum();
-        let marg: Vec<f64> = (0..f.scenarios).map(|s| marginal_clicks(f, s, j)).collect();
-        let cum: Vec<f64> = (0..f.scenarios).map(|s| f.total(s, j)).collect();
-        tiers.push(TierResult {
-            id: model.slot_id(c, t),
-            cluster: cl.name.clone(),
-            tier: t + 1,
-            label: cl.tiers[t].label.clone(),
-            marginal: outcome(marg, &f.site, margin, cost),
-            cumulative: outcome(cum, &f.site, margin, cum_cost),
-        });
-    }
+    // Slots are summarised in parallel; each is independent of the others,
+    // so the result does not depend on the thread count.
+    let tiers: Vec<TierResult> = f
+        .slots
+        .par_iter()
+        .enumerate()
+        .map(|(j, &(c, t))| {
+            let cl = &model.clusters[c];
+            let cost = cl.tiers[t].cost;
+            let cum_cost: f64 = cl.tiers[..=t].iter().map(|x| x.cost).sum();
+            let marg: Vec<f64> = (0..f.scenarios).map(|s| marginal_clicks(f, s, j)).collect();
+            let cum: Vec<f64> = (0..f.scenarios).map(|s| f.total(s, j)).collect();
+            TierResult {
+                id: model.slot_id(c, t),
+                cluster: cl.name.clone(),
+                tier: t + 1,
+                label: cl.tiers[t].label.clone(),
+                marginal: outcome(marg, &f.site, margin, cost),
+                cumulative: outcome(cum, &f.site, margin, cum_cost),
+            }
+        })
+        .collect();
     let firsts: Vec<usize> = f
         .slots
         .iter()
