@@ -40,6 +40,13 @@ enum CtrAction {
     },
 }
 
+/// What `frontier` sweeps.
+#[derive(Debug, Clone, Copy, ValueEnum, PartialEq, Eq)]
+pub enum SweepOver {
+    TailLoss,
+    Budget,
+}
+
 /// LP methods of the allocation.
 #[derive(Debug, Clone, Copy, ValueEnum, PartialEq, Eq)]
 pub enum LpMethod {
@@ -317,6 +324,9 @@ enum Command {
         /// Number of points.
         #[arg(long, default_value_t = 11)]
         points: usize,
+        /// What to sweep: the tail-loss limit (default) or the budget.
+        #[arg(long, value_enum, default_value_t = SweepOver::TailLoss)]
+        over: SweepOver,
         #[command(flatten)]
         sim: SimFlags,
         #[arg(long, value_enum, default_value_t = Format::Table)]
@@ -651,6 +661,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
         Command::Frontier {
             plan,
             points,
+            over,
             sim,
             format,
         } => {
@@ -662,18 +673,32 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             }
             let s = simulate_plan(&plan, Overrides::default(), &sim)?;
             let problem = s.problem();
-            let pts = furrow::allocate::frontier(
-                &problem,
-                points,
-                &furrow::allocate::SolveOptions::default(),
-            )
-            .map_err(furrow::Error::from)?;
-            let o = furrow::allocate::output::FrontierOutput {
-                currency: s.inputs.plan.currency.clone(),
-                tail_level: problem.tail_level,
-                points: pts,
+            let opts = furrow::allocate::SolveOptions::default();
+            let currency = s.inputs.plan.currency.clone();
+            let text = match over {
+                SweepOver::TailLoss => {
+                    let pts = furrow::allocate::frontier(&problem, points, &opts)
+                        .map_err(furrow::Error::from)?;
+                    let o = furrow::allocate::output::FrontierOutput {
+                        currency,
+                        tail_level: problem.tail_level,
+                        points: pts,
+                    };
+                    furrow::output::render(&o, format.into())?
+                }
+                SweepOver::Budget => {
+                    let pts = furrow::allocate::budget_sweep::budget_sweep(&problem, points, &opts)
+                        .map_err(furrow::Error::from)?;
+                    let o = furrow::allocate::budget_sweep::BudgetSweepOutput {
+                        currency,
+                        tail_level: problem.tail_level,
+                        max_tail_loss: problem.max_tail_loss,
+                        points: pts,
+                    };
+                    furrow::output::render(&o, format.into())?
+                }
             };
-            out(&furrow::output::render(&o, format.into())?)?;
+            out(&text)?;
         }
         Command::Stress {
             plan,

@@ -272,3 +272,33 @@ fn report_writes_the_folder_and_keeps_the_previous_one_on_failure() {
         .collect();
     assert!(leftovers.is_empty(), "no temporary folder left behind");
 }
+
+#[test]
+fn the_budget_sweep_never_loses_return_as_the_budget_grows() {
+    let (_t, dir) = project();
+    let v = json(&furrow(
+        &dir,
+        &[
+            "frontier",
+            "plan.toml",
+            "--over",
+            "budget",
+            "--points",
+            "6",
+            "--scenarios",
+            "300",
+            "--format",
+            "json",
+        ],
+    ));
+    let pts = v["points"].as_array().unwrap();
+    assert_eq!(pts.len(), 6);
+    for w in pts.windows(2) {
+        let (a, b) = (
+            w[0]["expected_net_return"].as_f64().unwrap(),
+            w[1]["expected_net_return"].as_f64().unwrap(),
+        );
+        assert!(b >= a - 1e-6 * a.abs().max(1.0), "{a} then {b}");
+        assert!(w[1]["budget_used"].as_f64().unwrap() <= w[1]["budget"].as_f64().unwrap() + 1e-6);
+    }
+}

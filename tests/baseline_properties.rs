@@ -66,14 +66,21 @@ proptest! {
         let method = [Method::Auto, Method::Linear, Method::SeasonalNaive, Method::Holt,
                       Method::HoltWintersAdditive, Method::HoltWintersMultiplicative][which];
         let o = BaselineOptions { bootstrap, seed, ..opts(method) };
-        if let Ok(fc) = forecast(&y, None, &o) {
-            for h in 0..fc.horizon() {
-                prop_assert!(fc.p10[h].is_finite() && fc.p90[h].is_finite());
-                prop_assert!(0.0 <= fc.p10[h] && fc.p10[h] <= fc.p50[h] && fc.p50[h] <= fc.p90[h]);
+        match forecast(&y, None, &o) {
+            Ok(fc) => {
+                for h in 0..fc.horizon() {
+                    prop_assert!(fc.p10[h].is_finite() && fc.p90[h].is_finite());
+                    prop_assert!(0.0 <= fc.p10[h] && fc.p10[h] <= fc.p50[h] && fc.p50[h] <= fc.p90[h]);
+                }
             }
-        } else {
-            // Only the documented refusals: seasonal models with fewer than 24 months.
-            prop_assert!(y.len() < 24 && which >= 2);
+            // Only the documented refusals: seasonal models with fewer than
+            // 24 months, and a multiplicative model that no parameter value
+            // can fit (a clear error naming the alternatives).
+            Err(e) => prop_assert!(
+                (y.len() < 24 && which >= 2)
+                    || (which == 5 && matches!(e, furrow::baseline::BaselineError::FitFailed { .. })),
+                "unexpected refusal: {e}"
+            ),
         }
     }
 }
@@ -213,4 +220,52 @@ fn coverage_of_the_80_interval_on_a_simulated_holt_model() {
     };
     let cov = coverage(800, &o, simulate);
     assert!((cov - 0.8).abs() < 0.042, "coverage {cov}");
+}
+
+/// Regression: a series of long runs of 1.0 between spikes, found by the
+/// property above in CI, makes multiplicative Holt-Winters unfittable; the
+/// answer is a clear refusal that names the alternatives, not a panic.
+#[test]
+fn multiplicative_holt_winters_on_spiky_ones_is_refused_clearly() {
+    let y = [
+        677.2248900065802,
+        1.0,
+        1.0,
+        1.0,
+        553.9085136950009,
+        299.3595622528517,
+        479.13198074549246,
+        202.92492812499592,
+        85.59689362885563,
+        294.2777248282589,
+        233.88585442042606,
+        605.4326653782167,
+        1.0,
+        949.9203408442896,
+        1.0,
+        1.0,
+        1.0,
+        1.0,
+        1.0,
+        1.0,
+        1.0,
+        1.0,
+        156.80284164787335,
+        921.748374330535,
+        481.75005642896735,
+        935.8719116129763,
+    ];
+    let o = BaselineOptions {
+        bootstrap: true,
+        seed: 1426552904566802939,
+        ..opts(Method::HoltWintersMultiplicative)
+    };
+    match forecast(&y, None, &o) {
+        Ok(fc) => assert!(fc
+            .p10
+            .iter()
+            .zip(&fc.p90)
+            .all(|(a, b)| a.is_finite() && a <= b)),
+        Err(e) => assert!(e.to_string().contains("holt-winters-additive"), "{e}"),
+    }
 }

@@ -234,7 +234,7 @@ fn revenue_growth_targets_use_the_history_revenue_or_clicks_times_value() {
 
     // Without a revenue column: clicks x mean conversion rate x mean order
     // value (the posterior mean (c + 1)/(n + 2) of the template's counts,
-    // Gelman et al. BDA3 §2.4, times 86).
+    // Gelman et al. BDA3 §2.4, times the template's order value 110).
     let drop_revenue = |d: &std::path::Path| {
         edit_plan(d, "metric = \"clicks\"", "metric = \"revenue\"");
         let p = d.join("history.csv");
@@ -255,7 +255,7 @@ fn revenue_growth_targets_use_the_history_revenue_or_clicks_times_value() {
     let t = Target::from_inputs(&inputs, &model).unwrap().unwrap();
     let clicks = inputs.history.get("clicks").unwrap();
     let last12: f64 = clicks[clicks.len() - 12..].iter().sum();
-    let rpc = (2150.0 + 1.0) / (98400.0 + 2.0) * 86.0;
+    let rpc = (2150.0 + 1.0) / (98400.0 + 2.0) * 110.0;
     assert!((t.amount - 1.2 * last12 * rpc).abs() < 1e-6 * t.amount);
     assert!(t.basis.contains("no revenue column"));
 }

@@ -18,6 +18,7 @@
 #[cfg(feature = "highs")]
 mod backend_highs;
 mod backend_microlp;
+pub mod budget_sweep;
 mod cuts;
 pub mod cvar;
 mod duals;
