@@ -8,12 +8,14 @@
 //! (The HTML page with charts and the workbook are not part of this build;
 //! the summary says so rather than pointing at files that do not exist.)
 
+pub mod workbook;
+
 use crate::allocate::output::{AllocationOutput, FrontierOutput};
 use crate::allocate::{self, SolveOptions};
 use crate::analysis;
 use crate::check;
 use crate::error::{Error, Result};
-use crate::fsio::write_text;
+use crate::fsio::{write_atomic, write_text};
 use crate::inputs::load::Inputs;
 use crate::output::{csv, json, num, Render, Rows};
 use crate::pipeline::{self, SimOptions, Simulated};
@@ -451,6 +453,7 @@ fn write_files(tmp: &Path, sm: &Summary) -> Result<()> {
     if let Some(t) = &sm.tracking {
         write_text(&tmp.join("tracking.csv"), &csv::to_string(&t.rows())?)?;
     }
+    write_atomic(&tmp.join(workbook::FILE_NAME), &workbook::workbook(sm)?)?;
     Ok(())
 }
 
