@@ -2,11 +2,10 @@
 //!
 //! Check, baseline, simulate, allocate, target odds, stress, variance
 //! drivers, tracking when the plan names actuals, and the frontier; written
-//! as a plain-text summary for people, `summary.json` with every figure, and
-//! CSV tables. The folder is written beside its final place and renamed
-//! into it, so a failure or an interrupt leaves the previous report intact.
-//! (The HTML page with charts and the workbook are not part of this build;
-//! the summary says so rather than pointing at files that do not exist.)
+//! as a plain-text summary for people, `summary.json` with every figure, CSV
+//! tables and the workbook `furrow-plan.xlsx` for finance. The folder is
+//! written beside its final place and renamed into it, so a failure or an
+//! interrupt leaves the previous report intact.
 
 pub mod workbook;
 
@@ -286,7 +285,7 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
     };
     write_folder(&dir, &summary)?;
     let terminal = format!(
-        "{}\n\nReport written to {}/ (summary.txt, summary.json and CSV tables).\n",
+        "{}\n\nReport written to {}/ (summary.txt, summary.json, CSV tables and furrow-plan.xlsx).\n",
         summary.decision,
         dir.display()
     );
@@ -393,7 +392,7 @@ fn text_summary(sm: &Summary) -> String {
     for (what, origin) in &sm.reproducibility.models {
         t += &format!("  {what}: {origin}\n");
     }
-    t += "\nThe HTML page with charts and the workbook are not part of this build; summary.json and the CSV files hold every figure.\n";
+    t += "\nsummary.json, the CSV files and furrow-plan.xlsx hold every figure.\n";
     t
 }
 

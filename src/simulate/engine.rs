@@ -146,7 +146,7 @@ pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
                 one_future(model, opts.seed, s, &site[s], scratch, out, exec_out);
                 if let Some(p) = opts.progress {
                     let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-                    if d % 256 == 0 || d == opts.scenarios {
+                    if d.is_multiple_of(256) || d == opts.scenarios {
                         p(d);
                     }
                 }

@@ -22,7 +22,7 @@ pub struct MixedReturns {
 }
 
 fn rows(m: &[f32], slots: usize, what: &str) -> Result<usize, StressError> {
-    if slots == 0 || m.is_empty() || m.len() % slots != 0 {
+    if slots == 0 || m.is_empty() || !m.len().is_multiple_of(slots) {
         return Err(StressError::Argument {
             what: what.into(),
             message: format!(

@@ -110,7 +110,7 @@ pub fn actual_values(actuals: &MonthlySeries, metric: Metric) -> Result<Vec<f64>
 fn check(input: &TrackInput) -> Result<(usize, usize), TrackError> {
     let h = input.months.len();
     let k = input.actuals.len();
-    if h == 0 || input.sims.is_empty() || input.sims.len() % h != 0 {
+    if h == 0 || input.sims.is_empty() || !input.sims.len().is_multiple_of(h) {
         return Err(TrackError::Argument {
             what: "simulated monthly totals".into(),
             message: format!(
