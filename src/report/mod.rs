@@ -3,10 +3,20 @@
 //! Check, baseline, simulate, allocate, target odds, stress, variance
 //! drivers, tracking when the plan names actuals, and the frontier; written
 //! as a plain-text summary for people, `summary.json` with every figure, CSV
-//! tables and the workbook `furrow-plan.xlsx` for finance. The folder is
-//! written beside its final place and renamed into it, so a failure or an
-//! interrupt leaves the previous report intact.
+//! tables, the workbook `furrow-plan.xlsx` for finance, and `index.html`, one
+//! self-contained page with the charts (drawn by `html`, `figures`, `risk`
+//! and `charts` from this same summary). The folder is written beside its
+//! final place and renamed into it, so a failure or an interrupt leaves the
+//! previous report intact.
 
+mod assumptions;
+mod charts;
+mod figures;
+pub mod histogram;
+pub mod html;
+mod risk;
+mod sections;
+mod svg;
 pub mod workbook;
 
 use crate::allocate::output::{AllocationOutput, FrontierOutput};
@@ -96,6 +106,12 @@ pub struct Summary {
     pub tracking: Option<crate::track::TrackReport>,
     pub frontier: Vec<crate::allocate::FrontierPoint>,
     pub reproducibility: Reproducibility,
+    /// Monthly history of clicks: (month, clicks).
+    pub history: Vec<(String, f64)>,
+    /// Conversion, order value and margin used.
+    pub economics: crate::clicks::Economics,
+    /// The chosen allocation's net return over the futures, binned.
+    pub return_distribution: histogram::Histogram,
 }
 
 /// The cautions every report states.
@@ -114,6 +130,22 @@ fn hash_file(p: &Path) -> Result<String> {
         .iter()
         .map(|b| format!("{b:02x}"))
         .collect())
+}
+
+/// Bins asked for in the net-return histogram (about; the width is rounded
+/// to a nice number).
+const HISTOGRAM_BINS: usize = 40;
+
+/// The history's clicks by month (empty when it has no clicks column).
+fn history(inputs: &Inputs) -> Vec<(String, f64)> {
+    let clicks = inputs.history.get("clicks").unwrap_or(&[]);
+    inputs
+        .history
+        .months
+        .iter()
+        .zip(clicks)
+        .map(|(m, c)| (m.to_string(), *c))
+        .collect()
 }
 
 fn forecast_rows(s: &Simulated, fractions: &[f64]) -> Result<Vec<ForecastRow>> {
@@ -241,6 +273,7 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
         None => None,
     };
     let frontier = allocate::frontier(&s.problem(), 11, &solve)?;
+    let net = crate::stress::portfolio_net(&s.model, &s.futures, &fractions)?;
     let inputs_hashed = s
         .inputs
         .files
@@ -282,10 +315,13 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
             run_seconds: started.elapsed().as_secs_f64(),
             models: s.model.origins.clone(),
         },
+        history: history(&s.inputs),
+        economics: s.model.economics,
+        return_distribution: histogram::histogram(&net, HISTOGRAM_BINS),
     };
     write_folder(&dir, &summary)?;
     let terminal = format!(
-        "{}\n\nReport written to {}/ (summary.txt, summary.json, CSV tables and furrow-plan.xlsx).\n",
+        "{}\n\nReport written to {}/ (index.html, summary.txt, summary.json, CSV tables and furrow-plan.xlsx).\n",
         summary.decision,
         dir.display()
     );
@@ -392,7 +428,7 @@ fn text_summary(sm: &Summary) -> String {
     for (what, origin) in &sm.reproducibility.models {
         t += &format!("  {what}: {origin}\n");
     }
-    t += "\nsummary.json, the CSV files and furrow-plan.xlsx hold every figure.\n";
+    t += "\nindex.html shows these figures with charts; summary.json, the CSV files and furrow-plan.xlsx hold every figure.\n";
     t
 }
 
@@ -430,6 +466,7 @@ fn write_files(tmp: &Path, sm: &Summary) -> Result<()> {
         points: sm.frontier.clone(),
     };
     write_text(&tmp.join("summary.txt"), &text_summary(sm))?;
+    write_text(&tmp.join("index.html"), &html::page(sm))?;
     write_text(&tmp.join("summary.json"), &json::to_string(sm)?)?;
     write_text(&tmp.join("allocation.csv"), &csv::to_string(&alloc.rows())?)?;
     write_text(

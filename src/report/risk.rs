@@ -1,0 +1,429 @@
+//! The report's risk charts, drawn from the data in `summary.json`: the
+//! efficient frontier (expected net return against tail loss) with the
+//! chosen and the best expected-return plans marked, the distribution of
+//! the chosen plan's net return with its VaR and CVaR, and the
+//! variance-driver tornados.
+//!
+//! VaR and CVaR are those of the allocation (Rockafellar & Uryasev,
+//! "Optimization of conditional value-at-risk", Journal of Risk 2(3),
+//! 2000), losses being minus the net return, so the markers sit at minus
+//! those values on the net-return axis.
+
+use super::charts::{at_least, nice_ticks, Layout, Legend, Plot, Swatch};
+use super::svg::{data, money, number, shorten, Anchor, Shape};
+use super::Summary;
+use crate::allocate::{Allocation, FrontierPoint};
+use crate::drivers::{Driver, DriverTable};
+
+/// The tail as words: 0.9 gives "10 %".
+pub fn tail_share(level: f64) -> String {
+    super::svg::pct(1.0 - level, 0)
+}
+
+fn frontier_points(sm: &Summary) -> Vec<&FrontierPoint> {
+    let mut pts: Vec<&FrontierPoint> = sm
+        .frontier
+        .iter()
+        .filter(|p| p.tail_loss.is_finite() && p.expected_net_return.is_finite())
+        .collect();
+    pts.sort_by(|a, b| a.tail_loss.total_cmp(&b.tail_loss));
+    pts
+}
+
+fn span_of(it: impl Iterator<Item = f64>) -> (f64, f64) {
+    it.filter(|v| v.is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+            (lo.min(v), hi.max(v))
+        })
+}
+
+/// Data ranges of the frontier chart. The tail-loss limit widens the x
+/// range only when it lies near the points; a limit far beyond them (one
+/// that does not bind) would squeeze the frontier into a corner, so it is
+/// stated in words instead (`false`). Differences below a thousandth of the
+/// budget (or one unit) are solver noise, not a frontier, and get no axis.
+fn frontier_ranges(sm: &Summary, pts: &[&FrontierPoint]) -> ((f64, f64), (f64, f64), bool) {
+    let (a, b) = (&sm.allocation, &sm.best_expected_return);
+    let tails = pts.iter().map(|p| p.tail_loss);
+    let (x0, x1) = span_of(tails.chain([a.tail_loss, b.tail_loss]));
+    let ys = pts.iter().map(|p| p.expected_net_return);
+    let y = span_of(ys.chain([a.expected_net_return, b.expected_net_return]));
+    let room = ((x1 - x0) * 0.5)
+        .max(x1.abs().max(x0.abs()) * 0.05)
+        .max(1.0);
+    let min_span = (a.budget.abs() * 1e-3).max(1.0);
+    let (x, shown) = match a.max_tail_loss {
+        Some(l) if l.is_finite() && l >= x0 - room && l <= x1 + room => {
+            ((x0.min(l), x1.max(l)), true)
+        }
+        _ => ((x0, x1), false),
+    };
+    (at_least(x, min_span), at_least(y, min_span), shown)
+}
+
+fn frontier_legend(limit_shown: bool) -> Vec<Legend> {
+    let mut legend = vec![
+        Legend::new(
+            Swatch::LineMarker("s-frontier", Shape::Circle, "m-frontier"),
+            "efficient frontier",
+        ),
+        Legend::new(Swatch::Marker(Shape::BigDiamond, "m-chosen"), "chosen plan"),
+        Legend::new(
+            Swatch::Marker(Shape::Square, "m-best"),
+            "best expected return (no limit)",
+        ),
+    ];
+    if limit_shown {
+        legend.push(Legend::new(Swatch::Line("s-limit"), "tail-loss limit"));
+    }
+    legend
+}
+
+/// Expected net return against tail loss, one marker per frontier point.
+pub fn frontier(sm: &Summary) -> String {
+    let pts = frontier_points(sm);
+    let cur = &sm.currency;
+    let share = tail_share(sm.allocation.tail_level);
+    let ((x0, x1), (y0, y1), limit_shown) = frontier_ranges(sm, &pts);
+    let (xt, yt) = (nice_ticks(x0, x1, 6), nice_ticks(y0, y1, 6));
+    let legend = frontier_legend(limit_shown);
+    let mut p = Plot::new(Layout::default(), &legend, (xt.lo, xt.hi), (yt.lo, yt.hi));
+    let x_title = format!("tail loss: average loss in the worst {share} of futures ({cur})");
+    p.x_axis(&xt, &x_title);
+    p.y_axis(&yt, &format!("expected net return ({cur})"));
+    limit_line(&mut p, sm.allocation.max_tail_loss, limit_shown, cur);
+    frontier_marks(&mut p, &pts);
+    plan_markers(&mut p, sm);
+    let title = "Efficient frontier: expected net return against tail loss";
+    p.finish("chart-frontier", title, &frontier_desc(sm, &pts))
+}
+
+/// The frontier's line and one marker per point, with its data.
+fn frontier_marks(p: &mut Plot, pts: &[&FrontierPoint]) {
+    let line: Vec<(f64, f64)> = pts
+        .iter()
+        .map(|q| (q.tail_loss, q.expected_net_return))
+        .collect();
+    p.line(&line, "s-frontier", &[("data-series", "frontier".into())]);
+    p.svg.open("frontier-points", &[]);
+    for q in pts {
+        let attrs = [
+            ("data-tail-loss", data(q.tail_loss)),
+            ("data-expected", data(q.expected_net_return)),
+            ("data-limit", data(q.max_tail_loss)),
+            ("data-spend", data(q.budget_used)),
+        ];
+        let (x, y) = (q.tail_loss, q.expected_net_return);
+        p.marker(x, y, Shape::Circle, "m-frontier", &attrs);
+    }
+    p.svg.close();
+}
+
+fn limit_line(p: &mut Plot, limit: Option<f64>, shown: bool, cur: &str) {
+    let Some(l) = limit else { return };
+    if shown {
+        let label = format!("limit {}", money(l, cur));
+        p.vline(l, "s-limit", (&label, 0), None, &[("data-value", data(l))]);
+        return;
+    }
+    let label = format!(
+        "limit {}: off the chart to the right, not binding",
+        money(l, cur)
+    );
+    let at = (p.area.right - 4.0, p.area.top + 12.0);
+    p.svg.text(at, Anchor::End, "ref-label", &label);
+}
+
+fn plan_markers(p: &mut Plot, sm: &Summary) {
+    let (a, b) = (&sm.allocation, &sm.best_expected_return);
+    let near = |u: f64, v: f64| (u - v).abs() <= 1e-6 * (1.0 + u.abs());
+    let same = near(a.tail_loss, b.tail_loss) && near(a.expected_net_return, b.expected_net_return);
+    let at = |x: &Allocation| (x.tail_loss, x.expected_net_return);
+    let attrs = |x: &Allocation| {
+        [
+            ("data-tail-loss", data(x.tail_loss)),
+            ("data-expected", data(x.expected_net_return)),
+        ]
+    };
+    p.marker(
+        b.tail_loss,
+        b.expected_net_return,
+        Shape::Square,
+        "m-best",
+        &attrs(b),
+    );
+    let (x, y) = at(a);
+    p.marker(x, y, Shape::BigDiamond, "m-chosen", &attrs(a));
+    if same {
+        point_label(p, at(a), "chosen plan = best expected return", false);
+    } else {
+        point_label(p, at(a), "chosen plan", true);
+        point_label(p, at(b), "best expected return", false);
+    }
+}
+
+/// A label beside a point of the frontier. A frontier rises to the right
+/// and bends down, so the space above-left and below-right of it is
+/// empty: labels go below-right (`below`) or above-left, and switch sides
+/// when the text would leave the plotting area.
+fn point_label(p: &mut Plot, at: (f64, f64), text: &str, below: bool) {
+    if !(at.0.is_finite() && at.1.is_finite()) {
+        return;
+    }
+    let (px, py) = p.at(at.0, at.1);
+    let w = super::svg::text_width(text, 12.0);
+    let right = if below {
+        px + 12.0 + w <= p.area.right
+    } else {
+        px - 12.0 - w < p.area.left
+    };
+    let (tx, anchor) = if right {
+        (px + 12.0, Anchor::Start)
+    } else {
+        (px - 12.0, Anchor::End)
+    };
+    let dy = if below { 18.0 } else { -10.0 };
+    let ty = (py + dy).clamp(p.area.top + 12.0, p.area.bottom - 4.0);
+    p.svg.text((tx, ty), anchor, "point-label halo", text);
+    p.svg.text((tx, ty), anchor, "point-label", text);
+}
+
+fn frontier_desc(sm: &Summary, pts: &[&FrontierPoint]) -> String {
+    let cur = &sm.currency;
+    let list: Vec<String> = pts
+        .iter()
+        .map(|q| {
+            format!(
+                "tail loss {} gives {}",
+                number(q.tail_loss, 0),
+                number(q.expected_net_return, 0)
+            )
+        })
+        .collect();
+    format!(
+        "{} frontier points ({cur}): {}. Chosen plan: tail loss {}, expected net return {}.",
+        pts.len(),
+        list.join("; "),
+        money(sm.allocation.tail_loss, cur),
+        money(sm.allocation.expected_net_return, cur)
+    )
+}
+
+const DISTRIBUTION_TITLE: &str = "Distribution of the chosen plan's net return";
+
+/// The histogram of the chosen plan's net return with VaR, CVaR and the mean.
+pub fn distribution(sm: &Summary) -> String {
+    let h = &sm.return_distribution;
+    let a = &sm.allocation;
+    let cur = &sm.currency;
+    let (lo, hi) = match (h.edges.first(), h.edges.last()) {
+        (Some(&lo), Some(&hi)) if h.counts.len() >= 2 => (lo, hi),
+        (Some(&lo), Some(&hi)) => {
+            let why = format!(
+                "the net return is {} in every future (the plan funds nothing, or nothing that varies)",
+                money((lo + hi) / 2.0, cur)
+            );
+            return super::figures::empty("chart-distribution", DISTRIBUTION_TITLE, &why);
+        }
+        _ => return super::figures::empty("chart-distribution", DISTRIBUTION_TITLE, "no futures"),
+    };
+    let top = h.counts.iter().copied().max().unwrap_or(0) as f64;
+    let xt = nice_ticks(lo.min(-a.tail_loss).min(-a.value_at_risk), hi.max(0.0), 7);
+    // Headroom above the highest bar for the labels of the marker lines.
+    let yt = nice_ticks(0.0, top * 1.3, 5);
+    let legend = distribution_legend(&tail_share(a.tail_level));
+    let mut p = Plot::new(Layout::default(), &legend, (xt.lo, xt.hi), (yt.lo, yt.hi));
+    p.x_axis(&xt, &format!("net return over the horizon ({cur})"));
+    p.y_axis(&yt, "futures (count)");
+    histogram_bars(&mut p, sm);
+    risk_lines(&mut p, a, cur);
+    p.finish(
+        "chart-distribution",
+        DISTRIBUTION_TITLE,
+        &distribution_desc(sm),
+    )
+}
+
+fn distribution_legend(share: &str) -> [Legend; 5] {
+    [
+        Legend::new(Swatch::Fill("hist-loss"), "futures with a loss"),
+        Legend::new(Swatch::Fill("hist-gain"), "futures with a gain"),
+        Legend::new(Swatch::Line("s-mean"), "expected (mean)"),
+        Legend::new(Swatch::Line("s-var"), format!("VaR ({share} tail)")),
+        Legend::new(
+            Swatch::Line("s-cvar"),
+            format!("CVaR: average of the worst {share}"),
+        ),
+    ]
+}
+
+/// The mean, VaR and CVaR as labelled vertical lines on the net-return
+/// axis (the risk figures are losses, so they sit at minus their value).
+fn risk_lines(p: &mut Plot, a: &Allocation, cur: &str) {
+    let share = tail_share(a.tail_level);
+    let (mean, var, cvar) = (a.expected_net_return, -a.value_at_risk, -a.tail_loss);
+    let marks = [
+        (
+            mean,
+            "s-mean",
+            format!("expected {}", money(mean, cur)),
+            Anchor::Start,
+        ),
+        (
+            var,
+            "s-var",
+            format!("VaR: {share} of futures at or below {}", money(var, cur)),
+            Anchor::Start,
+        ),
+        (
+            cvar,
+            "s-cvar",
+            format!("CVaR: the worst {share} average {}", money(cvar, cur)),
+            Anchor::End,
+        ),
+    ];
+    for (row, (x, class, label, side)) in marks.iter().enumerate() {
+        let attrs = [("data-value", data(*x))];
+        p.vline(*x, class, (label, row), Some(*side), &attrs);
+    }
+}
+
+fn histogram_bars(p: &mut Plot, sm: &Summary) {
+    let h = &sm.return_distribution;
+    p.svg.open("histogram", &[]);
+    for (w, &count) in h.edges.windows(2).zip(&h.counts) {
+        let class = if w[1] <= 0.0 {
+            "hist-loss"
+        } else {
+            "hist-gain"
+        };
+        let attrs = [
+            ("data-lo", data(w[0])),
+            ("data-hi", data(w[1])),
+            ("data-count", count.to_string()),
+        ];
+        p.bar((w[0], w[1]), (0.0, count as f64), class, &attrs);
+    }
+    p.svg.close();
+}
+
+fn distribution_desc(sm: &Summary) -> String {
+    let a = &sm.allocation;
+    let cur = &sm.currency;
+    let n: usize = sm.return_distribution.counts.iter().sum();
+    format!(
+        "Histogram of the net return in {} futures, from {} to {}. Expected {}; chance of a loss {}; VaR {} and CVaR {} as losses in the worst {}.",
+        number(n as f64, 0),
+        money(sm.return_distribution.edges.first().copied().unwrap_or(f64::NAN), cur),
+        money(sm.return_distribution.edges.last().copied().unwrap_or(f64::NAN), cur),
+        money(a.expected_net_return, cur),
+        super::svg::chance(a.chance_of_loss),
+        money(a.value_at_risk, cur),
+        money(a.tail_loss, cur),
+        tail_share(a.tail_level)
+    )
+}
+
+/// Most inputs a tornado shows.
+const TORNADO_ROWS: usize = 10;
+
+/// The inputs a tornado shows: those that vary, largest share first.
+fn tornado_rows(t: &DriverTable) -> Vec<&Driver> {
+    t.drivers
+        .iter()
+        .filter(|d| !d.constant && d.outcome_low.is_finite() && d.outcome_high.is_finite())
+        .take(TORNADO_ROWS)
+        .collect()
+}
+
+fn tornado_legend() -> [Legend; 3] {
+    [
+        Legend::new(Swatch::Fill("low"), "input in its bottom decile"),
+        Legend::new(Swatch::Fill("high"), "input in its top decile"),
+        Legend::new(Swatch::Line("s-mean"), "mean outcome"),
+    ]
+}
+
+/// The tornado of driver table `k`: the mean outcome with each input in
+/// its bottom and its top decile.
+pub fn tornado(sm: &Summary, k: usize) -> String {
+    let id = format!("chart-drivers-{}", k + 1);
+    let Some(t) = sm.drivers.tables.get(k) else {
+        return super::figures::empty(&id, "Variance drivers", "no driver table");
+    };
+    let rows = tornado_rows(t);
+    let title = format!("What drives the {}", t.outcome);
+    if rows.is_empty() {
+        let why = t.note.clone().unwrap_or_else(|| "no input varies".into());
+        return super::figures::empty(&id, &title, &why);
+    }
+    let unit = if t.outcome.contains("clicks") {
+        "clicks"
+    } else {
+        &sm.currency
+    };
+    let mut p = tornado_frame(t, &rows, unit);
+    for (i, d) in rows.iter().enumerate() {
+        tornado_row(&mut p, t.mean, i as f64, d);
+    }
+    let mean = format!("mean {}", number(t.mean, 0));
+    let attrs = [("data-value", data(t.mean))];
+    p.vline(t.mean, "s-mean", (&mean, 0), Some(Anchor::Start), &attrs);
+    p.finish(&id, &title, &tornado_desc(t, &rows))
+}
+
+/// The tornado's frame: one row per input (and an empty one on top for
+/// the mean's label), the outcome along x.
+fn tornado_frame(t: &DriverTable, rows: &[&Driver], unit: &str) -> Plot {
+    let vals = rows.iter().flat_map(|d| [d.outcome_low, d.outcome_high]);
+    let (lo, hi) = span_of(vals.chain([t.mean]));
+    let xt = nice_ticks(lo, hi, 6);
+    let n = rows.len() as f64;
+    let layout = Layout {
+        height: 130.0 + 28.0 * n,
+        left: 230.0,
+        right: 40.0,
+        ..Layout::default()
+    };
+    let mut p = Plot::new(layout, &tornado_legend(), (xt.lo, xt.hi), (n - 0.5, -1.3));
+    p.x_axis(
+        &xt,
+        &format!("mean {} over the futures ({unit})", t.outcome),
+    );
+    let names: Vec<String> = rows.iter().map(|d| shorten(&d.input, 34)).collect();
+    p.y_categories(&names);
+    p
+}
+
+fn tornado_row(p: &mut Plot, mean: f64, y: f64, d: &Driver) {
+    let attrs = [
+        ("data-input", d.input.clone()),
+        ("data-low", data(d.outcome_low)),
+        ("data-high", data(d.outcome_high)),
+        ("data-share", data(d.share)),
+    ];
+    p.svg.open("tornado-row", &attrs);
+    p.bar((mean, d.outcome_low), (y - 0.3, y + 0.3), "low", &[]);
+    p.bar((mean, d.outcome_high), (y - 0.3, y + 0.3), "high", &[]);
+    p.svg.close();
+}
+
+fn tornado_desc(t: &DriverTable, rows: &[&Driver]) -> String {
+    let list: Vec<String> = rows
+        .iter()
+        .map(|d| {
+            format!(
+                "{}: {} to {}",
+                d.input,
+                number(d.outcome_low, 0),
+                number(d.outcome_high, 0)
+            )
+        })
+        .collect();
+    format!(
+        "Mean {} {}; with each input in its bottom and top decile: {}.",
+        t.outcome,
+        number(t.mean, 0),
+        list.join("; ")
+    )
+}

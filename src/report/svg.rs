@@ -1,0 +1,409 @@
+//! Building blocks of the report page: escaping of user text for HTML and
+//! SVG, numbers that never print as NaN or infinity, and the few SVG
+//! elements the charts draw, written as plain strings so the page needs no
+//! library, no script and nothing fetched.
+//!
+//! Every string that reaches the markup goes through [`esc`] at the point it
+//! is written: the helpers here escape their text and attribute arguments
+//! themselves, so a cluster named `<script>` stays text.
+
+use std::fmt::Write;
+
+/// Escapes `&`, `<`, `>`, `"` and `'` for HTML and SVG text and attribute
+/// values (the five characters of the XML predefined entities).
+pub fn esc(s: &str) -> String {
+    let mut out = String::with_capacity(s.len());
+    for ch in s.chars() {
+        match ch {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&quot;"),
+            '\'' => out.push_str("&#39;"),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// `v` with `decimals` decimals and thousands separators (`-1,234.5`);
+/// "n/a" when `v` is not finite. A value that rounds to zero has no sign.
+pub fn number(v: f64, decimals: usize) -> String {
+    if !v.is_finite() {
+        return "n/a".into();
+    }
+    let digits = format!("{:.*}", decimals, v.abs());
+    let (int, frac) = match digits.split_once('.') {
+        Some((i, f)) => (i, Some(f)),
+        None => (digits.as_str(), None),
+    };
+    let mut out = group_thousands(int);
+    if let Some(f) = frac {
+        out.push('.');
+        out.push_str(f);
+    }
+    let zero = out.chars().all(|c| matches!(c, '0' | '.' | ','));
+    if v < 0.0 && !zero {
+        out.insert(0, '-');
+    }
+    out
+}
+
+fn group_thousands(int: &str) -> String {
+    let mut out = String::with_capacity(int.len() + int.len() / 3);
+    for (i, ch) in int.chars().enumerate() {
+        if i > 0 && (int.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(ch);
+    }
+    out
+}
+
+/// An amount with its currency, in whole units (not escaped: pass the
+/// result through [`esc`] like any other text).
+pub fn money(v: f64, currency: &str) -> String {
+    if !v.is_finite() {
+        return "n/a".into();
+    }
+    format!("{currency} {}", number(v, 0))
+}
+
+/// A share as a percentage (`0.123` → `12.3 %`), "n/a" when not finite.
+pub fn pct(v: f64, decimals: usize) -> String {
+    if !v.is_finite() {
+        return "n/a".into();
+    }
+    format!("{} %", number(v * 100.0, decimals))
+}
+
+/// A chance as a percentage: whole percents, with one decimal below 1 %
+/// and above 99 % so that a small chance does not read as none, nor a
+/// near-certainty as certain.
+pub fn chance(v: f64) -> String {
+    if (v > 0.0 && v < 0.0095) || (v > 0.9905 && v < 1.0) {
+        pct(v, 1)
+    } else {
+        pct(v, 0)
+    }
+}
+
+/// An optional ratio with two decimals, "n/a" when absent or not finite.
+pub fn ratio(v: Option<f64>) -> String {
+    v.filter(|x| x.is_finite())
+        .map(|x| number(x, 2))
+        .unwrap_or_else(|| "n/a".into())
+}
+
+/// A value for a `data-*` attribute: the shortest text that reads back as
+/// the same `f64`, or "n/a" when not finite.
+pub fn data(v: f64) -> String {
+    if v.is_finite() {
+        format!("{v}")
+    } else {
+        "n/a".into()
+    }
+}
+
+/// A coordinate with two decimals; non-finite values (which callers drop
+/// before drawing) become 0 so the markup stays valid.
+pub fn coord(v: f64) -> String {
+    if v.is_finite() {
+        let s = format!("{v:.2}");
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        "0".into()
+    }
+}
+
+/// Attributes written after an element's own: name and (escaped) value.
+pub type Attrs<'a> = &'a [(&'a str, String)];
+
+fn attrs(extra: Attrs) -> String {
+    extra.iter().fold(String::new(), |mut s, (k, v)| {
+        let _ = write!(s, " {}=\"{}\"", esc(k), esc(v));
+        s
+    })
+}
+
+/// Horizontal anchoring of a text.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Anchor {
+    Start,
+    Middle,
+    End,
+}
+
+impl Anchor {
+    fn name(self) -> &'static str {
+        match self {
+            Anchor::Start => "start",
+            Anchor::Middle => "middle",
+            Anchor::End => "end",
+        }
+    }
+}
+
+/// An SVG document being written; elements carry CSS classes that the
+/// page's style sheet defines.
+#[derive(Debug, Clone)]
+pub struct Svg {
+    pub width: f64,
+    pub height: f64,
+    body: String,
+}
+
+impl Svg {
+    /// An empty drawing of `width × height` user units.
+    pub fn new(width: f64, height: f64) -> Svg {
+        Svg {
+            width,
+            height,
+            body: String::new(),
+        }
+    }
+
+    /// A straight line.
+    pub fn line(&mut self, from: (f64, f64), to: (f64, f64), class: &str, extra: Attrs) {
+        let _ = writeln!(
+            self.body,
+            "<line x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" class=\"{}\"{}/>",
+            coord(from.0),
+            coord(from.1),
+            coord(to.0),
+            coord(to.1),
+            esc(class),
+            attrs(extra)
+        );
+    }
+
+    /// An open polyline through `pts`.
+    pub fn polyline(&mut self, pts: &[(f64, f64)], class: &str, extra: Attrs) {
+        let _ = writeln!(
+            self.body,
+            "<polyline points=\"{}\" class=\"{}\"{}/>",
+            points(pts),
+            esc(class),
+            attrs(extra)
+        );
+    }
+
+    /// A closed polygon through `pts`.
+    pub fn polygon(&mut self, pts: &[(f64, f64)], class: &str, extra: Attrs) {
+        let _ = writeln!(
+            self.body,
+            "<polygon points=\"{}\" class=\"{}\"{}/>",
+            points(pts),
+            esc(class),
+            attrs(extra)
+        );
+    }
+
+    /// A rectangle from its top-left corner and size (negative sizes are
+    /// turned around).
+    pub fn rect(&mut self, x: f64, y: f64, w: f64, h: f64, class: &str, extra: Attrs) {
+        let (x, w) = if w < 0.0 { (x + w, -w) } else { (x, w) };
+        let (y, h) = if h < 0.0 { (y + h, -h) } else { (y, h) };
+        let _ = writeln!(
+            self.body,
+            "<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" class=\"{}\"{}/>",
+            coord(x),
+            coord(y),
+            coord(w),
+            coord(h),
+            esc(class),
+            attrs(extra)
+        );
+    }
+
+    /// A marker of `shape` centred on `at`.
+    pub fn marker(&mut self, at: (f64, f64), shape: Shape, class: &str, extra: Attrs) {
+        let (x, y) = at;
+        let r = shape.size();
+        let pts: Vec<(f64, f64)> = match shape {
+            Shape::Circle => {
+                let _ = writeln!(
+                    self.body,
+                    "<circle cx=\"{}\" cy=\"{}\" r=\"{}\" class=\"{}\"{}/>",
+                    coord(x),
+                    coord(y),
+                    coord(r),
+                    esc(class),
+                    attrs(extra)
+                );
+                return;
+            }
+            Shape::Square => vec![
+                (x - r, y - r),
+                (x + r, y - r),
+                (x + r, y + r),
+                (x - r, y + r),
+            ],
+            Shape::Diamond | Shape::BigDiamond => {
+                vec![(x, y - r), (x + r, y), (x, y + r), (x - r, y)]
+            }
+            Shape::Triangle => vec![(x, y - r), (x + r, y + r * 0.8), (x - r, y + r * 0.8)],
+        };
+        self.polygon(&pts, class, extra);
+    }
+
+    /// A text at `at`; `s` is escaped.
+    pub fn text(&mut self, at: (f64, f64), anchor: Anchor, class: &str, s: &str) {
+        let _ = writeln!(
+            self.body,
+            "<text x=\"{}\" y=\"{}\" text-anchor=\"{}\" class=\"{}\">{}</text>",
+            coord(at.0),
+            coord(at.1),
+            anchor.name(),
+            esc(class),
+            esc(s)
+        );
+    }
+
+    /// A text turned a quarter anticlockwise about `at` (a y-axis title).
+    pub fn vtext(&mut self, at: (f64, f64), class: &str, s: &str) {
+        let _ = writeln!(
+            self.body,
+            "<text x=\"{x}\" y=\"{y}\" text-anchor=\"middle\" transform=\"rotate(-90 {x} {y})\" class=\"{}\">{}</text>",
+            esc(class),
+            esc(s),
+            x = coord(at.0),
+            y = coord(at.1),
+        );
+    }
+
+    /// Opens a group with a class and attributes (close with [`Svg::close`]).
+    pub fn open(&mut self, class: &str, extra: Attrs) {
+        let _ = writeln!(self.body, "<g class=\"{}\"{}>", esc(class), attrs(extra));
+    }
+
+    /// Closes the last group opened.
+    pub fn close(&mut self) {
+        self.body.push_str("</g>\n");
+    }
+
+    /// The finished `<svg>` element: `title` is its accessible name and
+    /// `desc` the text alternative of its data.
+    pub fn finish(self, id: &str, title: &str, desc: &str) -> String {
+        format!(
+            "<svg id=\"{id}\" class=\"chart\" viewBox=\"0 0 {w} {h}\" role=\"img\" aria-label=\"{t}\" aria-describedby=\"{id}-desc\">\n<title id=\"{id}-title\">{t}</title>\n<desc id=\"{id}-desc\">{d}</desc>\n{body}</svg>\n",
+            id = esc(id),
+            w = coord(self.width),
+            h = coord(self.height),
+            t = esc(title),
+            d = esc(desc),
+            body = self.body
+        )
+    }
+}
+
+fn points(pts: &[(f64, f64)]) -> String {
+    pts.iter()
+        .filter(|(x, y)| x.is_finite() && y.is_finite())
+        .map(|(x, y)| format!("{},{}", coord(*x), coord(*y)))
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+/// Marker shapes: different shapes tell series apart without colour.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Shape {
+    Circle,
+    Square,
+    Diamond,
+    BigDiamond,
+    Triangle,
+}
+
+impl Shape {
+    fn size(self) -> f64 {
+        match self {
+            Shape::Circle => 3.5,
+            Shape::Square => 3.5,
+            Shape::Diamond => 4.5,
+            Shape::BigDiamond => 8.0,
+            Shape::Triangle => 4.5,
+        }
+    }
+}
+
+/// Rough width of `s` in user units at `font_size` (proportional sans-serif
+/// glyphs average about 0.58 em; common practice, no source).
+pub fn text_width(s: &str, font_size: f64) -> f64 {
+    s.chars().count() as f64 * font_size * 0.58
+}
+
+/// `s` cut to at most `max` characters, with an ellipsis when cut.
+pub fn shorten(s: &str, max: usize) -> String {
+    if s.chars().count() <= max {
+        return s.to_string();
+    }
+    let mut out: String = s.chars().take(max.saturating_sub(1)).collect();
+    out.push('…');
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn escapes_the_five_markup_characters() {
+        assert_eq!(
+            esc(r#"<a href="x">Tom & 'Jerry'</a>"#),
+            "&lt;a href=&quot;x&quot;&gt;Tom &amp; &#39;Jerry&#39;&lt;/a&gt;"
+        );
+        assert_eq!(esc("plain text"), "plain text");
+    }
+
+    #[test]
+    fn numbers_have_separators_and_never_nan() {
+        assert_eq!(number(1234567.891, 2), "1,234,567.89");
+        assert_eq!(number(-1000.0, 0), "-1,000");
+        assert_eq!(number(999.6, 0), "1,000");
+        assert_eq!(number(-0.004, 2), "0.00");
+        assert_eq!(number(123.0, 0), "123");
+        assert_eq!(number(f64::NAN, 2), "n/a");
+        assert_eq!(number(f64::INFINITY, 0), "n/a");
+        assert_eq!(money(-2500.4, "EUR"), "EUR -2,500");
+        assert_eq!(money(f64::NEG_INFINITY, "EUR"), "n/a");
+        assert_eq!(pct(0.1234, 1), "12.3 %");
+        assert_eq!(chance(0.001), "0.1 %");
+        assert_eq!(chance(0.0), "0 %");
+        assert_eq!(chance(0.26), "26 %");
+        assert_eq!(chance(0.998), "99.8 %");
+        assert_eq!(chance(1.0), "100 %");
+        assert_eq!(ratio(Some(f64::NAN)), "n/a");
+        assert_eq!(ratio(None), "n/a");
+    }
+
+    #[test]
+    fn data_values_read_back_exactly() {
+        for v in [0.1 + 0.2, -12345.678901234, 1e-9, 3.0] {
+            let back: f64 = data(v).parse().unwrap_or(f64::NAN);
+            assert_eq!(back.to_bits(), v.to_bits());
+        }
+        assert_eq!(data(f64::NAN), "n/a");
+    }
+
+    #[test]
+    fn text_in_svg_is_escaped() {
+        let mut s = Svg::new(10.0, 10.0);
+        s.text((1.0, 2.0), Anchor::Start, "a", "<b>&");
+        s.rect(0.0, 0.0, 1.0, 1.0, "r", &[("data-id", "x\"y".into())]);
+        let out = s.finish("c1", "t<", "d>");
+        assert!(out.contains("&lt;b&gt;&amp;"));
+        assert!(out.contains("data-id=\"x&quot;y\""));
+        assert!(!out.contains("<b>"));
+        assert!(out.contains("<title id=\"c1-title\">t&lt;</title>"));
+    }
+
+    #[test]
+    fn coordinates_are_short_and_finite() {
+        assert_eq!(coord(12.0), "12");
+        assert_eq!(coord(12.345), "12.35");
+        assert_eq!(coord(f64::NAN), "0");
+        assert_eq!(shorten("abcdef", 4), "abc…");
+        assert_eq!(shorten("abc", 4), "abc");
+    }
+}
