@@ -168,14 +168,9 @@ pub fn estimate(model: &Model, currency: &str) -> Estimate {
     }
 }
 
-fn ratio(v: Option<f64>) -> String {
-    v.map(|x| format!("{:.2}", x))
-        .unwrap_or_else(|| "n/a".into())
-}
-
 impl crate::output::Render for Estimate {
     fn table(&self) -> String {
-        use crate::text::{int, money, pct, table, Align::*};
+        use crate::text::{int, money, pct, ratio, table, Align::*};
         let cur = &self.currency;
         let mut out = format!(
             "Central estimate, {} to {} (median gain per keyword weighted by its chance of gaining; conversion rate {}, order value {}, gross margin {})\n\n",

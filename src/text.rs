@@ -34,6 +34,13 @@ pub fn pct(v: f64, digits: usize) -> String {
     format!("{:.*} %", digits, v * 100.0)
 }
 
+/// A ratio with two decimals, "n/a" when there is none (cost 0).
+pub fn ratio(v: Option<f64>) -> String {
+    v.filter(|x| x.is_finite())
+        .map(|x| format!("{x:.2}"))
+        .unwrap_or_else(|| "n/a".into())
+}
+
 /// Column alignment.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Align {

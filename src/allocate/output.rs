@@ -6,7 +6,7 @@
 use super::frontier::FrontierPoint;
 use super::result::Allocation;
 use crate::output::{num, Render, Rows};
-use crate::text::{money, pct, table, Align::*};
+use crate::text::{money, pct, ratio, table, Align::*};
 use serde::Serialize;
 
 /// An allocation with the currency to print it in.
@@ -15,10 +15,6 @@ pub struct AllocationOutput {
     #[serde(flatten)]
     pub allocation: Allocation,
     pub currency: String,
-}
-
-fn ratio(v: Option<f64>) -> String {
-    v.map(|x| format!("{x:.2}")).unwrap_or_else(|| "n/a".into())
 }
 
 impl Render for AllocationOutput {

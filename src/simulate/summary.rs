@@ -179,11 +179,6 @@ pub fn net_returns(model: &Model, f: &Futures) -> Vec<f32> {
     out
 }
 
-fn ratio(v: Option<f64>) -> String {
-    v.map(|x| format!("{:.2}", x))
-        .unwrap_or_else(|| "n/a".into())
-}
-
 fn stat_cols(s: &Stats) -> [String; 4] {
     use crate::output::num;
     [num(s.mean), num(s.p10), num(s.p50), num(s.p90)]
@@ -191,7 +186,7 @@ fn stat_cols(s: &Stats) -> [String; 4] {
 
 impl crate::output::Render for SimSummary {
     fn table(&self) -> String {
-        use crate::text::{int, money, pct, table, Align::*};
+        use crate::text::{int, money, pct, ratio, table, Align::*};
         let cur = &self.currency;
         let mut out = format!(
             "Monte Carlo: {} futures (seed {}), {} months from {}. Each row is what the tier adds over the tier below.\n\n",

@@ -13,8 +13,7 @@
 
 use super::StressError;
 use crate::simulate::{net_returns, Futures, Model};
-use crate::stats::{mean, sort};
-use crate::target::odds::order_index;
+use crate::stats::mean;
 use crate::target::totals::{
     check_fractions, check_model, funded_monthly, horizon_totals, row_sums,
 };
@@ -24,14 +23,7 @@ use serde::Serialize;
 /// `(VaR, CVaR)` of equally likely `losses` at `level` (0.90: the worst
 /// 10 % form the tail). An empty sample gives `(0, 0)`.
 pub fn cvar_of_losses(losses: &[f64], level: f64) -> (f64, f64) {
-    if losses.is_empty() {
-        return (0.0, 0.0);
-    }
-    let mut sorted = losses.to_vec();
-    sort(&mut sorted);
-    let var = sorted[order_index(sorted.len(), level)];
-    let excess = sorted.iter().map(|l| (l - var).max(0.0)).sum::<f64>() / sorted.len() as f64;
-    (var, var + excess / (1.0 - level).max(f64::MIN_POSITIVE))
+    crate::allocate::cvar_of_losses(losses, None, level)
 }
 
 /// The allocation's net return in each future: `Σ_j x_j r[s, j]`.
