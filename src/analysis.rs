@@ -91,10 +91,27 @@ pub fn stress_report(
         max_memory,
         progress: None,
     };
+    // Runs a later preset may take clusters from: the base case and every
+    // preset whose keyword loop differed from all runs before it.
+    let n = s.model.clusters.len();
+    let base_keys = stress::loop_keys(None, n, opts.seed);
+    let mut kept: Vec<(Vec<stress::LoopKey>, f64, crate::simulate::Futures)> = Vec::new();
     let mut rows = Vec::new();
     for name in names {
         let preset = load_preset(s, name)?;
-        let case = stress::run_preset(&preset, &s.model, Some(&s.baseline_paths), &opts)?;
+        let case = {
+            let mut done = vec![stress::Done {
+                keys: base_keys.clone(),
+                volume_scale: 1.0,
+                futures: &s.futures,
+            }];
+            done.extend(kept.iter().map(|(keys, vs, f)| stress::Done {
+                keys: keys.clone(),
+                volume_scale: *vs,
+                futures: f,
+            }));
+            stress::run_preset_from(&preset, &s.model, &done, Some(&s.baseline_paths), &opts)?
+        };
         let c = Case {
             name: &preset.name,
             description: &preset.description,
@@ -104,6 +121,11 @@ pub fn stress_report(
             notes: &case.notes,
         };
         rows.push(stress::evaluate(&c, &fractions, level, t.as_ref())?);
+        let keys = stress::loop_keys(Some(&preset), n, opts.seed);
+        let new = (0..n).any(|c| keys[c] != base_keys[c] && kept.iter().all(|k| k.0[c] != keys[c]));
+        if new {
+            kept.push((keys, preset.model.volume_scale, case.futures));
+        }
     }
     let head = ReportHead {
         currency: &s.inputs.plan.currency,
@@ -165,7 +187,12 @@ pub fn allocate_under(
         max_memory,
         progress: None,
     };
-    let case = stress::run_preset(&preset, &s.model, None, &run)?;
+    let done = [stress::Done {
+        keys: stress::loop_keys(None, s.model.clusters.len(), s.inputs.plan.seed),
+        volume_scale: 1.0,
+        futures: &s.futures,
+    }];
+    let case = stress::run_preset_from(&preset, &s.model, &done, None, &run)?;
     let base = crate::simulate::net_returns(&s.model, &s.futures);
     let stressed = crate::simulate::net_returns(&case.model, &case.futures);
     let mix = stress::mix_returns(&base, &stressed, s.futures.slots.len(), stress_weight)?;

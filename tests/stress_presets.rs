@@ -336,3 +336,93 @@ fn the_stress_table_compares_each_preset_with_the_base_case() {
     assert!(render(&r, Format::Table).unwrap().contains("bad-year"));
     assert!(stress::evaluate(&case, &x, 1.0, None).is_err());
 }
+
+/// The partial re-run (only the clusters a preset's keyword loop differs
+/// in, the rest rescaled) gives the full re-run's futures for every
+/// shipped preset and for presets that change the site-wide shock: same
+/// site draws, same execution factors, and clicks within the f32 rounding
+/// of both paths. The full re-run is the reference (it is `simulate::run`
+/// on the stressed model, nothing shared with the shortcut).
+#[test]
+fn partial_rerun_matches_the_full_rerun() {
+    let b = base();
+    let mut presets: Vec<StressPreset> = FILES.iter().map(|(n, _)| preset(n)).collect();
+    presets.push(
+        StressPreset::from_toml_str(
+            "description = \"more shocks\"\n[model]\nshock_probability = 0.6\nshock_log_loss = 0.9\nvolume_scale = 0.7\n",
+            "test",
+        )
+        .unwrap(),
+    );
+    for p in &presets {
+        let full = stressed(p);
+        let base_done = stress::Done {
+            keys: stress::loop_keys(None, b.model.clusters.len(), SEED),
+            volume_scale: 1.0,
+            futures: &b.futures,
+        };
+        let part = stress::run_preset_from(
+            p,
+            &b.model,
+            &[base_done],
+            Some(&b.baseline),
+            &options(N, SEED),
+        )
+        .unwrap();
+        let f = &full.futures;
+        let q = &part.futures;
+        assert_eq!(f.site, q.site, "{}", p.name);
+        assert_eq!(f.execution, q.execution, "{}", p.name);
+        assert_eq!(f.clicks.len(), q.clicks.len());
+        let mut worst = 0f64;
+        for (a, c) in f.clicks.iter().zip(&q.clicks) {
+            let (a, c) = (*a as f64, *c as f64);
+            let err = (a - c).abs() / a.abs().max(1e-3);
+            worst = worst.max(err);
+        }
+        // Two f32 roundings on the rescaled path against one on the full
+        // path: a few parts in 10^7.
+        assert!(worst < 1e-6, "{}: worst relative gap {worst}", p.name);
+        assert_eq!(full.baseline, part.baseline);
+        assert_eq!(full.notes, part.notes);
+    }
+}
+
+/// A preset can take clusters from an earlier preset's run, not only from
+/// the base: the bad year's unshocked clusters share the slower gains'
+/// keyword loop (same time scale), at 0.85 of its volumes. Checked against
+/// the bad year's full re-run.
+#[test]
+fn partial_rerun_can_reuse_an_earlier_preset() {
+    let b = base();
+    let n = b.model.clusters.len();
+    let slower = preset("slower-gains");
+    let slow_case = stressed(&slower);
+    let bad = preset("bad-year");
+    let done = [
+        stress::Done {
+            keys: stress::loop_keys(None, n, SEED),
+            volume_scale: 1.0,
+            futures: &b.futures,
+        },
+        stress::Done {
+            keys: stress::loop_keys(Some(&slower), n, SEED),
+            volume_scale: slower.model.volume_scale,
+            futures: &slow_case.futures,
+        },
+    ];
+    let bad_keys = stress::loop_keys(Some(&bad), n, SEED);
+    let shared = (0..n).filter(|&c| bad_keys[c] == done[1].keys[c]).count();
+    assert!(shared > 0 && shared < n, "{shared} of {n} clusters shared");
+    let part = stress::run_preset_from(&bad, &b.model, &done, None, &options(N, SEED)).unwrap();
+    let full = stressed(&bad).futures;
+    assert_eq!(full.site, part.futures.site);
+    assert_eq!(full.execution, part.futures.execution);
+    let worst = full
+        .clicks
+        .iter()
+        .zip(&part.futures.clicks)
+        .map(|(a, c)| (*a as f64 - *c as f64).abs() / (*a as f64).abs().max(1e-3))
+        .fold(0f64, f64::max);
+    assert!(worst < 1e-6, "worst relative gap {worst}");
+}

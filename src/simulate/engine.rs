@@ -120,17 +120,7 @@ pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
         .unwrap_or(0);
     let mut clicks = vec![0f32; opts.scenarios * n * h];
     let mut execution = vec![0f32; opts.scenarios * nc];
-    let sampler = model
-        .factors
-        .site_sampler(&model.economics)
-        .map_err(|e| Error::Model {
-            origin: "factors".into(),
-            message: e.to_string(),
-        })?;
-    let site: Vec<SiteDraw> = (0..opts.scenarios)
-        .into_par_iter()
-        .map(|s| sampler.draw(&mut stream(opts.seed, domain::SITE, s as u64)))
-        .collect();
+    let site = draw_sites(model, opts)?;
     let done = std::sync::atomic::AtomicUsize::new(0);
     let chunk = (n * h).max(1);
     clicks
@@ -163,6 +153,162 @@ pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
     })
 }
 
+/// Every future's site-wide draws, from stream (seed, SITE, s).
+fn draw_sites(model: &Model, opts: &RunOptions) -> Result<Vec<SiteDraw>> {
+    let sampler = model
+        .factors
+        .site_sampler(&model.economics)
+        .map_err(|e| Error::Model {
+            origin: "factors".into(),
+            message: e.to_string(),
+        })?;
+    Ok((0..opts.scenarios)
+        .into_par_iter()
+        .map(|s| sampler.draw(&mut stream(opts.seed, domain::SITE, s as u64)))
+        .collect())
+}
+
+/// Whether two site draws place the same ranking shock (the only site-wide
+/// draw the keyword loop sees).
+fn same_shock(a: &SiteDraw, b: &SiteDraw) -> bool {
+    a.shock == b.shock
+        && a.shock_log_loss.to_bits() == b.shock_log_loss.to_bits()
+        && a.shock_month_share.to_bits() == b.shock_month_share.to_bits()
+}
+
+/// Where [`rerun`] takes a cluster's keyword sums from: an earlier run
+/// of a variant of the same model (same seed, futures, clusters and tiers)
+/// whose keyword loop is identical for this cluster up to the search
+/// volumes, which were `volume_ratio` times smaller (the loop is linear in
+/// volume).
+#[derive(Clone, Copy)]
+pub struct Source<'a> {
+    pub futures: &'a Futures,
+    pub volume_ratio: f64,
+}
+
+/// The Monte Carlo of `model`, re-running the keyword loop only where it
+/// can differ from earlier runs.
+///
+/// Every cluster draws from its own stream (seed, CLUSTER, s, c), so a
+/// cluster whose keyword loop a variant leaves alone gives the same keyword
+/// sums in every future; only the site-wide multipliers (click-through and
+/// volume factors, drawn here from `model`'s own sampler) and the volume
+/// ratio change them. Cluster `c` is copied and rescaled from
+/// `sources[c]` when it is `Some`, and simulated in full when it is `None`;
+/// so is every cluster of a future whose ranking shock differs from the
+/// source's or whose source multiplier is not positive (nothing to rescale
+/// from). The result equals [`run`] on `model` up to the rounding of the
+/// stored f32 values (one or two units in the last place).
+pub fn rerun(model: &Model, opts: &RunOptions, sources: &[Option<Source>]) -> Result<Futures> {
+    check_memory(model, opts.scenarios, opts.max_memory)?;
+    let slots = model.slot_index();
+    let (h, n, nc) = (model.horizon(), slots.len(), model.clusters.len());
+    let fits = sources.len() == nc
+        && sources.iter().flatten().all(|src| {
+            let f = src.futures;
+            f.scenarios == opts.scenarios && f.horizon == h && f.slots == slots && f.clusters == nc
+        });
+    if !fits {
+        return Err(Error::Setting(format!(
+            "internal: a partial re-run needs earlier runs of {} futures, {} slots and {} months, one source per cluster",
+            opts.scenarios, n, h
+        )));
+    }
+    let max_tiers = model
+        .clusters
+        .iter()
+        .map(|c| c.n_tiers())
+        .max()
+        .unwrap_or(0);
+    let site = draw_sites(model, opts)?;
+    let mut clicks = vec![0f32; opts.scenarios * n * h];
+    let mut execution = vec![0f32; opts.scenarios * nc];
+    let chunk = (n * h).max(1);
+    let done = std::sync::atomic::AtomicUsize::new(0);
+    clicks
+        .par_chunks_mut(chunk)
+        .zip(execution.par_chunks_mut(nc.max(1)))
+        .enumerate()
+        .for_each_init(
+            || Scratch {
+                kernel: KernelScratch::new(h),
+                acc: vec![0.0; max_tiers * h],
+            },
+            |scratch, (s, (out, exec_out))| {
+                let new = &site[s];
+                let new_scale = new.ctr_factor * new.volume_factor;
+                let ctx = FutureContext::new(new, h);
+                let mut slot = 0;
+                for (c, cl) in model.clusters.iter().enumerate() {
+                    let nt = cl.n_tiers();
+                    let (at, to) = (slot * h, (slot + nt) * h);
+                    slot += nt;
+                    if let Some(src) = sources[c] {
+                        let old = &src.futures.site[s];
+                        let old_scale = old.ctr_factor * old.volume_factor;
+                        let ratio = new_scale / old_scale * src.volume_ratio;
+                        if old_scale > 0.0 && ratio.is_finite() && same_shock(old, new) {
+                            let from = &src.futures.clicks[s * chunk + at..s * chunk + to];
+                            for (o, &b) in out[at..to].iter_mut().zip(from) {
+                                *o = (b as f64 * ratio) as f32;
+                            }
+                            if let Some(e) = exec_out.get_mut(c) {
+                                *e = src.futures.execution[s * nc + c];
+                            }
+                            continue;
+                        }
+                    }
+                    let acc = &mut scratch.acc[..nt * h];
+                    let exec = cluster_sums(model, opts.seed, s, c, &ctx, &mut scratch.kernel, acc);
+                    for (o, a) in out[at..to].iter_mut().zip(acc.iter()) {
+                        *o = (a * new_scale) as f32;
+                    }
+                    if let Some(e) = exec_out.get_mut(c) {
+                        *e = exec as f32;
+                    }
+                }
+                if let Some(p) = opts.progress {
+                    let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+                    if d.is_multiple_of(256) || d == opts.scenarios {
+                        p(d);
+                    }
+                }
+            },
+        );
+    Ok(Futures {
+        scenarios: opts.scenarios,
+        horizon: h,
+        slots,
+        clicks,
+        site,
+        execution,
+        clusters: nc,
+    })
+}
+
+/// Cluster `c`'s keyword sums in future `s` (before the site-wide
+/// multipliers) into `acc` (`tiers x horizon`); returns the execution factor.
+fn cluster_sums(
+    model: &Model,
+    seed: u64,
+    s: usize,
+    c: usize,
+    ctx: &FutureContext,
+    kernel: &mut KernelScratch,
+    acc: &mut [f64],
+) -> f64 {
+    let cl = &model.clusters[c];
+    let mut rng = substream(seed, domain::CLUSTER, s as u64, c as u64);
+    let exec = model.factors.execution_factor(standard_normal(&mut rng));
+    acc.fill(0.0);
+    for k in 0..cl.keywords.len() {
+        let draws = KeywordDraws::draw(&mut rng);
+        add_keyword(model, cl, k, &draws, exec, ctx, kernel, acc);
+    }
+    exec
+}
+
 fn one_future(
     model: &Model,
     seed: u64,
@@ -191,17 +337,11 @@ fn one_future_generic<T: Copy>(
     let scale = site.ctr_factor * site.volume_factor;
     let mut slot = 0;
     for (c, cl) in model.clusters.iter().enumerate() {
-        let mut rng = substream(seed, domain::CLUSTER, s as u64, c as u64);
-        let exec = model.factors.execution_factor(standard_normal(&mut rng));
-        if let Some(e) = exec_out.get_mut(c) {
-            *e = exec as f32;
-        }
         let nt = cl.n_tiers();
         let acc = &mut sc.acc[..nt * h];
-        acc.fill(0.0);
-        for k in 0..cl.keywords.len() {
-            let draws = KeywordDraws::draw(&mut rng);
-            add_keyword(model, cl, k, &draws, exec, &ctx, &mut sc.kernel, acc);
+        let exec = cluster_sums(model, seed, s, c, &ctx, &mut sc.kernel, acc);
+        if let Some(e) = exec_out.get_mut(c) {
+            *e = exec as f32;
         }
         for (o, a) in out[slot * h..(slot + nt) * h].iter_mut().zip(acc.iter()) {
             *o = store(a * scale);

@@ -223,3 +223,79 @@ pub fn run_preset(
         baseline,
     })
 }
+
+/// What a cluster's keyword loop depends on under a preset, beside the
+/// search volumes: the time scale, the gain scale (1 unless the cluster is
+/// shocked) and the site-wide shock's overrides, as bits. Two presets with
+/// the same key for a cluster give it the same keyword sums up to volume.
+pub type LoopKey = [u64; 4];
+
+/// The key of every cluster under `preset` (`None`: the base case).
+pub fn loop_keys(preset: Option<&StressPreset>, n: usize, seed: u64) -> Vec<LoopKey> {
+    let Some(p) = preset else {
+        return vec![[1f64.to_bits(), 1f64.to_bits(), u64::MAX, u64::MAX]; n];
+    };
+    let c = &p.model;
+    let opt = |v: Option<f64>| v.map(f64::to_bits).unwrap_or(u64::MAX);
+    let mut keys = vec![
+        [
+            c.time_scale.to_bits(),
+            1f64.to_bits(),
+            opt(c.shock_probability),
+            opt(c.shock_log_loss),
+        ];
+        n
+    ];
+    for i in shocked_clusters(p, n, seed) {
+        keys[i][1] = c.gain_scale.to_bits();
+    }
+    keys
+}
+
+/// A run a later preset may take clusters from: its keys, the volume
+/// scale it ran with, and its futures.
+pub struct Done<'a> {
+    pub keys: Vec<LoopKey>,
+    pub volume_scale: f64,
+    pub futures: &'a Futures,
+}
+
+/// [`run_preset`], re-simulating only the clusters whose keyword loop no
+/// earlier run in `done` shares ([`loop_keys`]) and rescaling the rest
+/// (see [`crate::simulate::rerun`]). Same futures as [`run_preset`] up to
+/// the rounding of the stored f32 values; volume, click-through,
+/// conversion and order-value presets re-simulate nothing.
+pub fn run_preset_from(
+    preset: &StressPreset,
+    model: &Model,
+    done: &[Done],
+    baseline: Option<&[f64]>,
+    opts: &RunOptions,
+) -> crate::Result<StressedCase> {
+    let stressed = apply(preset, model, opts.seed);
+    let n = model.clusters.len();
+    let keys = loop_keys(Some(preset), n, opts.seed);
+    let vs = preset.model.volume_scale;
+    let sources: Vec<Option<crate::simulate::Source>> = (0..n)
+        .map(|c| {
+            done.iter()
+                .find(|d| d.keys.get(c) == Some(&keys[c]) && d.volume_scale > 0.0)
+                .map(|d| crate::simulate::Source {
+                    futures: d.futures,
+                    volume_ratio: vs / d.volume_scale,
+                })
+        })
+        .collect();
+    let futures = crate::simulate::rerun(&stressed, opts, &sources)?;
+    let baseline = baseline.map(|b| {
+        let mut v = b.to_vec();
+        stress_baseline(preset, &mut v);
+        v
+    });
+    Ok(StressedCase {
+        notes: notes(preset, model, opts.seed),
+        model: stressed,
+        futures,
+        baseline,
+    })
+}

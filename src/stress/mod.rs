@@ -8,7 +8,12 @@
 //! may override the site-wide shock. [`apply()`] returns the stressed model;
 //! the caller re-runs the Monte Carlo with the same seed, so the base and
 //! stressed futures share their random draws (common random numbers) and
-//! differ only by the preset. [`stress_baseline`] lowers the baseline paths
+//! differ only by the preset. [`run_preset_from`] gets the same futures
+//! (up to f32 rounding) without re-simulating what a preset leaves alone:
+//! each cluster draws from its own stream, so only the clusters whose
+//! keyword loop differs from every earlier run ([`loop_keys`]) are
+//! simulated again, and the rest are rescaled by the new site-wide draws
+//! and volume. [`stress_baseline`] lowers the baseline paths
 //! for presets that also hit the site's existing clicks. [`results`]
 //! compares expected net return, tail loss, ROI and target odds;
 //! [`mix_returns`] builds the weighted base-and-stressed scenario set for
@@ -20,7 +25,8 @@ pub mod preset;
 pub mod results;
 
 pub use apply::{
-    apply, baseline_scale, notes, run_preset, shocked_clusters, stress_baseline, StressedCase,
+    apply, baseline_scale, loop_keys, notes, run_preset, run_preset_from, shocked_clusters,
+    stress_baseline, Done, LoopKey, StressedCase,
 };
 pub use mix::{mix_returns, MixedReturns};
 pub use preset::{BaselineChanges, ModelChanges, StressPreset};
