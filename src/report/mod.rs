@@ -441,6 +441,7 @@ fn write_folder(dir: &Path, sm: &Summary) -> Result<()> {
         .file_name()
         .map(|n| n.to_string_lossy().to_string())
         .unwrap_or_else(|| "report".into());
+    remove_stale(parent, &name);
     let tmp = parent.join(format!(".{name}.tmp-{}", std::process::id()));
     let werr = |p: &Path| {
         let p = p.to_path_buf();
@@ -493,9 +494,21 @@ fn write_files(tmp: &Path, sm: &Summary) -> Result<()> {
     Ok(())
 }
 
-/// Replaces `dir` by `tmp`: the old folder is moved aside first and removed
-/// only once the new one is in place.
+/// Replaces `dir` by `tmp`. On Linux the two names are exchanged in one
+/// atomic step (renameat2 with RENAME_EXCHANGE), so a reader or an
+/// interrupt sees either the whole old report or the whole new one; the old
+/// one, now under the temporary name, is removed afterwards. Elsewhere, or
+/// on a file system without the exchange, the old folder is renamed aside
+/// first and put back if the second rename fails.
 fn swap_in(tmp: &Path, dir: &Path) -> Result<()> {
+    let werr = |source| Error::Write {
+        path: dir.to_path_buf(),
+        source,
+    };
+    if dir.exists() && exchange(tmp, dir) {
+        let _ = std::fs::remove_dir_all(tmp);
+        return Ok(());
+    }
     let old = dir.with_file_name(format!(
         ".{}.old-{}",
         dir.file_name()
@@ -505,22 +518,53 @@ fn swap_in(tmp: &Path, dir: &Path) -> Result<()> {
     ));
     let had_old = dir.exists();
     if had_old {
-        std::fs::rename(dir, &old).map_err(|source| Error::Write {
-            path: dir.to_path_buf(),
-            source,
-        })?;
+        std::fs::rename(dir, &old).map_err(werr)?;
     }
     if let Err(source) = std::fs::rename(tmp, dir) {
         if had_old {
             let _ = std::fs::rename(&old, dir);
         }
-        return Err(Error::Write {
-            path: dir.to_path_buf(),
-            source,
-        });
+        return Err(werr(source));
     }
     if had_old {
         let _ = std::fs::remove_dir_all(&old);
     }
     Ok(())
+}
+
+/// Exchanges two directory names atomically; false where the system or
+/// the file system cannot.
+#[cfg(target_os = "linux")]
+fn exchange(a: &Path, b: &Path) -> bool {
+    use rustix::fs::{renameat_with, RenameFlags, CWD};
+    renameat_with(CWD, a, CWD, b, RenameFlags::EXCHANGE).is_ok()
+}
+
+#[cfg(not(target_os = "linux"))]
+fn exchange(_a: &Path, _b: &Path) -> bool {
+    false
+}
+
+/// Removes what an interrupted run left beside the report folder: its
+/// temporary folders (`.<name>.tmp-<pid>`, `.<name>.old-<pid>`) whose
+/// process no longer runs. Where it cannot tell whether a process runs
+/// (no /proc), it leaves them.
+fn remove_stale(parent: &Path, name: &str) {
+    let Ok(entries) = std::fs::read_dir(parent) else {
+        return;
+    };
+    let proc_fs = Path::new("/proc/self").exists();
+    for e in entries.flatten() {
+        let file = e.file_name().to_string_lossy().to_string();
+        let pid = [".tmp-", ".old-"].iter().find_map(|tag| {
+            file.strip_prefix(&format!(".{name}{tag}"))
+                .and_then(|p| p.parse::<u32>().ok())
+        });
+        if let Some(pid) = pid {
+            let gone = proc_fs && !Path::new(&format!("/proc/{pid}")).exists();
+            if gone && pid != std::process::id() {
+                let _ = std::fs::remove_dir_all(e.path());
+            }
+        }
+    }
 }
