@@ -199,12 +199,21 @@ pub struct Source<'a> {
 /// so is every cluster of a future whose ranking shock differs from the
 /// source's or whose source multiplier is not positive (nothing to rescale
 /// from). The result equals [`run`] on `model` up to the rounding of the
-/// stored f32 values (one or two units in the last place).
-pub fn rerun(model: &Model, opts: &RunOptions, sources: &[Option<Source>]) -> Result<Futures> {
+/// stored f32 values (one or two units in the last place). `site`, when
+/// given, are the site draws to use instead of drawing them again: pass an
+/// earlier run's when `model` has the same factors and economics (the
+/// draws are then the same).
+pub fn rerun(
+    model: &Model,
+    opts: &RunOptions,
+    sources: &[Option<Source>],
+    site: Option<&[SiteDraw]>,
+) -> Result<Futures> {
     check_memory(model, opts.scenarios, opts.max_memory)?;
     let slots = model.slot_index();
     let (h, n, nc) = (model.horizon(), slots.len(), model.clusters.len());
     let fits = sources.len() == nc
+        && site.is_none_or(|v| v.len() == opts.scenarios)
         && sources.iter().flatten().all(|src| {
             let f = src.futures;
             f.scenarios == opts.scenarios && f.horizon == h && f.slots == slots && f.clusters == nc
@@ -221,7 +230,10 @@ pub fn rerun(model: &Model, opts: &RunOptions, sources: &[Option<Source>]) -> Re
         .map(|c| c.n_tiers())
         .max()
         .unwrap_or(0);
-    let site = draw_sites(model, opts)?;
+    let site = match site {
+        Some(v) => v.to_vec(),
+        None => draw_sites(model, opts)?,
+    };
     let mut clicks = vec![0f32; opts.scenarios * n * h];
     let mut execution = vec![0f32; opts.scenarios * nc];
     let chunk = (n * h).max(1);

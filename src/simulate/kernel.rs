@@ -132,14 +132,13 @@ pub fn add_keyword(
         if d == 0.0 {
             continue;
         }
-        let row = &mut acc[t * h + first..(t + 1) * h];
-        let months = sc.ramp[first..]
-            .iter()
-            .zip(&sc.base[first..])
-            .zip(&sc.old[first..])
-            .zip(&sc.weight[first..]);
-        for (cell, (((r, b), o), w)) in row.iter_mut().zip(months) {
-            *cell += w * (lookup.ctr_ln(b - r * d) - o);
-        }
+        lookup.add_months(
+            &mut acc[t * h + first..(t + 1) * h],
+            &sc.ramp[first..],
+            &sc.base[first..],
+            &sc.old[first..],
+            &sc.weight[first..],
+            d,
+        );
     }
 }

@@ -253,7 +253,9 @@ pub fn loop_keys(preset: Option<&StressPreset>, n: usize, seed: u64) -> Vec<Loop
 }
 
 /// A run a later preset may take clusters from: its keys, the volume
-/// scale it ran with, and its futures.
+/// scale it ran with, and its futures. The first is the base case (its
+/// site draws are reused when a preset leaves the factors and the
+/// economics alone).
 pub struct Done<'a> {
     pub keys: Vec<LoopKey>,
     pub volume_scale: f64,
@@ -286,7 +288,13 @@ pub fn run_preset_from(
                 })
         })
         .collect();
-    let futures = crate::simulate::rerun(&stressed, opts, &sources)?;
+    // The site draws depend on the factors and the economics only.
+    let same_site = stressed.factors == model.factors && stressed.economics == model.economics;
+    let site = done
+        .first()
+        .filter(|_| same_site)
+        .map(|d| d.futures.site.as_slice());
+    let futures = crate::simulate::rerun(&stressed, opts, &sources, site)?;
     let baseline = baseline.map(|b| {
         let mut v = b.to_vec();
         stress_baseline(preset, &mut v);
