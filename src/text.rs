@@ -1,43 +1,66 @@
 //! Plain-text formatting for the terminal: numbers with thousands
 //! separators, money with the currency, percentages, and aligned tables.
 
-/// `1234567.8` as `1,234,568`.
-pub fn int(v: f64) -> String {
+/// `v` with `decimals` decimals and thousands separators (`-1,234.5`);
+/// "n/a" when `v` is not finite. A value that rounds to zero has no sign.
+pub fn number(v: f64, decimals: usize) -> String {
     if !v.is_finite() {
         return "n/a".into();
     }
-    let neg = v < 0.0;
-    let digits = format!("{:.0}", v.abs());
-    let mut out = String::new();
-    for (i, ch) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i) % 3 == 0 {
-            out.push(',');
-        }
-        out.push(ch);
+    let digits = format!("{:.*}", decimals, v.abs());
+    let (int, frac) = match digits.split_once('.') {
+        Some((i, f)) => (i, Some(f)),
+        None => (digits.as_str(), None),
+    };
+    let mut out = group_thousands(int);
+    if let Some(f) = frac {
+        out.push('.');
+        out.push_str(f);
     }
-    if neg && out != "0" {
+    let zero = out.chars().all(|c| matches!(c, '0' | '.' | ','));
+    if v < 0.0 && !zero {
         out.insert(0, '-');
     }
     out
 }
 
-/// An amount with its currency, rounded to whole units.
-pub fn money(v: f64, currency: &str) -> String {
-    format!("{currency} {}", int(v))
+fn group_thousands(int: &str) -> String {
+    let mut out = String::with_capacity(int.len() + int.len() / 3);
+    for (i, ch) in int.chars().enumerate() {
+        if i > 0 && (int.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(ch);
+    }
+    out
 }
 
-/// A share as a percentage with `digits` decimals.
-pub fn pct(v: f64, digits: usize) -> String {
+/// `1234567.8` as `1,234,568`.
+pub fn int(v: f64) -> String {
+    number(v, 0)
+}
+
+/// An amount with its currency, in whole units; "n/a" when not finite.
+pub fn money(v: f64, currency: &str) -> String {
     if !v.is_finite() {
         return "n/a".into();
     }
-    format!("{:.*} %", digits, v * 100.0)
+    format!("{currency} {}", number(v, 0))
 }
 
-/// A ratio with two decimals, "n/a" when there is none (cost 0).
+/// A share as a percentage (`0.123` → `12.3 %`), "n/a" when not finite.
+pub fn pct(v: f64, decimals: usize) -> String {
+    if !v.is_finite() {
+        return "n/a".into();
+    }
+    format!("{} %", number(v * 100.0, decimals))
+}
+
+/// An optional ratio with two decimals, "n/a" when absent (cost 0) or not
+/// finite.
 pub fn ratio(v: Option<f64>) -> String {
     v.filter(|x| x.is_finite())
-        .map(|x| format!("{x:.2}"))
+        .map(|x| number(x, 2))
         .unwrap_or_else(|| "n/a".into())
 }
 

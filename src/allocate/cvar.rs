@@ -25,7 +25,7 @@ pub fn cvar_of_losses(losses: &[f64], weights: Option<&[f64]>, level: f64) -> (f
     let level = level.max(0.0);
     let weights = weights.filter(|w| w.len() == losses.len());
     let var = match weights {
-        None => losses[order[equal_weight_index(losses.len(), level)]],
+        None => losses[order[crate::stats::order_index(losses.len(), level)]],
         Some(w) => losses[order[weighted_index(&order, w, level)]],
     };
     let (excess, total) = match weights {
@@ -43,18 +43,6 @@ pub fn cvar_of_losses(losses: &[f64], weights: Option<&[f64]>, level: f64) -> (f
         }
     };
     (var, var + excess / ((1.0 - level) * total))
-}
-
-/// Index (in sorted order) of the `level` quantile of `n` equally likely
-/// losses: the smallest `k` with `(k + 1) / n >= level`, robust to rounding.
-fn equal_weight_index(n: usize, level: f64) -> usize {
-    let t = level * n as f64;
-    let k = if (t - t.round()).abs() <= 1e-9 * n as f64 {
-        t.round()
-    } else {
-        t.ceil()
-    };
-    (k as usize).clamp(1, n) - 1
 }
 
 fn weighted_index(order: &[usize], w: &[f64], level: f64) -> usize {

@@ -26,56 +26,7 @@ pub fn esc(s: &str) -> String {
     out
 }
 
-/// `v` with `decimals` decimals and thousands separators (`-1,234.5`);
-/// "n/a" when `v` is not finite. A value that rounds to zero has no sign.
-pub fn number(v: f64, decimals: usize) -> String {
-    if !v.is_finite() {
-        return "n/a".into();
-    }
-    let digits = format!("{:.*}", decimals, v.abs());
-    let (int, frac) = match digits.split_once('.') {
-        Some((i, f)) => (i, Some(f)),
-        None => (digits.as_str(), None),
-    };
-    let mut out = group_thousands(int);
-    if let Some(f) = frac {
-        out.push('.');
-        out.push_str(f);
-    }
-    let zero = out.chars().all(|c| matches!(c, '0' | '.' | ','));
-    if v < 0.0 && !zero {
-        out.insert(0, '-');
-    }
-    out
-}
-
-fn group_thousands(int: &str) -> String {
-    let mut out = String::with_capacity(int.len() + int.len() / 3);
-    for (i, ch) in int.chars().enumerate() {
-        if i > 0 && (int.len() - i).is_multiple_of(3) {
-            out.push(',');
-        }
-        out.push(ch);
-    }
-    out
-}
-
-/// An amount with its currency, in whole units (not escaped: pass the
-/// result through [`esc`] like any other text).
-pub fn money(v: f64, currency: &str) -> String {
-    if !v.is_finite() {
-        return "n/a".into();
-    }
-    format!("{currency} {}", number(v, 0))
-}
-
-/// A share as a percentage (`0.123` → `12.3 %`), "n/a" when not finite.
-pub fn pct(v: f64, decimals: usize) -> String {
-    if !v.is_finite() {
-        return "n/a".into();
-    }
-    format!("{} %", number(v * 100.0, decimals))
-}
+pub use crate::text::{money, number, pct, ratio};
 
 /// A chance as a percentage: whole percents, with one decimal below 1 %
 /// and above 99 % so that a small chance does not read as none, nor a
@@ -86,13 +37,6 @@ pub fn chance(v: f64) -> String {
     } else {
         pct(v, 0)
     }
-}
-
-/// An optional ratio with two decimals, "n/a" when absent or not finite.
-pub fn ratio(v: Option<f64>) -> String {
-    v.filter(|x| x.is_finite())
-        .map(|x| number(x, 2))
-        .unwrap_or_else(|| "n/a".into())
 }
 
 /// A value for a `data-*` attribute: the shortest text that reads back as

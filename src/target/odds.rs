@@ -108,14 +108,4 @@ pub fn volume_needed(totals: &[f64], uplift: &[f64], target: f64, chance: f64) -
     v.is_finite().then_some(v)
 }
 
-/// Index of the `⌈p·n⌉`-th smallest of `n` values (0-based), robust to
-/// rounding of `p·n`.
-pub fn order_index(n: usize, p: f64) -> usize {
-    let t = p * n as f64;
-    let k = if (t - t.round()).abs() <= 1e-9 * n as f64 {
-        t.round()
-    } else {
-        t.ceil()
-    };
-    (k as usize).clamp(1, n.max(1)) - 1
-}
+pub use crate::stats::order_index;
