@@ -78,6 +78,20 @@ pub fn weighted_quantile_sorted(pairs: &[(f64, f64)], q: f64) -> f64 {
     pairs[pairs.len() - 1].0
 }
 
+/// Index (0-based) of the `⌈p·n⌉`-th smallest of `n` values, robust to the
+/// rounding of `p·n` (a product within `1e-9·n` of a whole number counts as
+/// that number); 0 when `n` is 0. The order statistic of the value at risk
+/// and of the quantile-based chances.
+pub fn order_index(n: usize, p: f64) -> usize {
+    let t = p * n as f64;
+    let k = if (t - t.round()).abs() <= 1e-9 * n as f64 {
+        t.round()
+    } else {
+        t.ceil()
+    };
+    (k as usize).clamp(1, n.max(1)) - 1
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -101,18 +115,4 @@ mod tests {
         assert_eq!(weighted_quantile_sorted(&pairs, 0.5), 2.0);
         assert_eq!(weighted_quantile_sorted(&pairs, 0.51), 3.0);
     }
-}
-
-/// Index (0-based) of the `⌈p·n⌉`-th smallest of `n` values, robust to the
-/// rounding of `p·n` (a product within `1e-9·n` of a whole number counts as
-/// that number); 0 when `n` is 0. The order statistic of the value at risk
-/// and of the quantile-based chances.
-pub fn order_index(n: usize, p: f64) -> usize {
-    let t = p * n as f64;
-    let k = if (t - t.round()).abs() <= 1e-9 * n as f64 {
-        t.round()
-    } else {
-        t.ceil()
-    };
-    (k as usize).clamp(1, n.max(1)) - 1
 }
