@@ -18,7 +18,8 @@ pub struct Issue {
     pub file: String,
     /// 1-based line, where one applies.
     pub line: Option<u64>,
-    /// Column: its header name and 1-based position, where one applies.
+    /// Column: its header name and 1-based position, where one applies
+    /// (position 0 names a plan key without a place in the file).
     pub column: Option<(String, usize)>,
     /// What was wrong and what was expected.
     pub message: String,
@@ -30,8 +31,11 @@ impl fmt::Display for Issue {
         if let Some(line) = self.line {
             write!(f, ", line {line}")?;
         }
-        if let Some((name, idx)) = &self.column {
-            write!(f, ", column {idx} ('{name}')")?;
+        match &self.column {
+            // A key of the plan that is missing has no column to point at.
+            Some((name, 0)) => write!(f, ", key '{name}'")?,
+            Some((name, idx)) => write!(f, ", column {idx} ('{name}')")?,
+            None => {}
         }
         write!(f, ": {}", self.message)
     }
@@ -152,6 +156,10 @@ pub enum Error {
     /// The data cannot support what was asked (too little history, ...).
     #[error("{0}")]
     Unsupported(String),
+    /// No allocation can satisfy the plan, known before any simulation (for
+    /// example must-fund tiers that cost more than the budget).
+    #[error("{0}")]
+    Infeasible(String),
     /// The run would need more memory than allowed.
     #[error("{0}")]
     Memory(String),
@@ -171,7 +179,8 @@ impl Error {
     pub fn exit_code(&self) -> u8 {
         use crate::baseline::BaselineError as B;
         match self {
-            Error::Allocate(crate::allocate::AllocError::Infeasible { .. }) => 3,
+            Error::Allocate(crate::allocate::AllocError::Infeasible { .. })
+            | Error::Infeasible(_) => 3,
             Error::Setting(_)
             | Error::Baseline(
                 B::BadParameter { .. } | B::BadCount { .. } | B::UnknownMethod { .. },
@@ -190,3 +199,34 @@ impl Error {
 
 /// The library's result type.
 pub type Result<T, E = Error> = std::result::Result<T, E>;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn an_issue_names_file_line_column_or_key() {
+        let at = |line, column: Option<(&str, usize)>| Issue {
+            file: "f".into(),
+            line,
+            column: column.map(|(n, i)| (n.to_string(), i)),
+            message: "m".into(),
+        };
+        assert_eq!(
+            at(Some(3), Some(("clicks", 2))).to_string(),
+            "f, line 3, column 2 ('clicks'): m"
+        );
+        assert_eq!(
+            at(None, Some(("seasonality", 0))).to_string(),
+            "f, key 'seasonality': m"
+        );
+        assert_eq!(at(Some(1), None).to_string(), "f, line 1: m");
+    }
+
+    #[test]
+    fn exit_codes() {
+        assert_eq!(Error::Infeasible("x".into()).exit_code(), 3);
+        assert_eq!(Error::Setting("x".into()).exit_code(), 2);
+        assert_eq!(Error::input("f", None, None, "x").exit_code(), 1);
+    }
+}

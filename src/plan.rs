@@ -255,6 +255,16 @@ pub fn load(path: &Path) -> Result<Plan> {
         source,
     })?;
     let file_name = path.display().to_string();
+    if let Some(pos) = bytes.iter().position(|&b| b == 0) {
+        let line = 1 + bytes[..pos].iter().filter(|&&b| b == b'\n').count();
+        return Err(Error::Plan {
+            file: file_name,
+            line,
+            column: 1,
+            message: "the plan looks binary (it contains NUL bytes); expected a TOML text file"
+                .into(),
+        });
+    }
     let text = String::from_utf8(bytes).map_err(|e| {
         let pos = e.utf8_error().valid_up_to();
         let (line, column) = line_col(&String::from_utf8_lossy(&e.into_bytes()[..pos]), pos);
@@ -266,8 +276,23 @@ pub fn load(path: &Path) -> Result<Plan> {
         }
     })?;
     let text = text.strip_prefix('\u{feff}').unwrap_or(&text).to_string();
+    check_text(&file_name, &text)?;
     let file: PlanFile = toml::from_str(&text).map_err(|e| toml_error(&file_name, &text, &e))?;
     build(path, text, file)
+}
+
+/// Refuses an empty plan with a message that says what a plan holds, before
+/// the TOML parser reports a missing key.
+fn check_text(file: &str, text: &str) -> Result<()> {
+    if text.trim().is_empty() {
+        return Err(Error::Plan {
+            file: file.to_string(),
+            line: 1,
+            column: 1,
+            message: "the plan is empty; expected a TOML file with at least [inputs] (history, keywords) and [budget] total (furrow init DIR writes a commented template)".into(),
+        });
+    }
+    Ok(())
 }
 
 fn build(path: &Path, text: String, file: PlanFile) -> Result<Plan> {
@@ -323,8 +348,28 @@ fn toml_error(file: &str, text: &str, e: &toml::de::Error) -> Error {
         file: file.to_string(),
         line,
         column,
-        message: suggest(&raw),
+        message: plain_words(&suggest(&raw)),
     }
+}
+
+/// Rewrites the parser's type names and "missing field" into the words
+/// docs/plan.md uses.
+fn plain_words(msg: &str) -> String {
+    if let Some(key) = msg
+        .strip_prefix("missing field `")
+        .and_then(|r| r.strip_suffix('`'))
+    {
+        return format!("missing the required key '{key}'; docs/plan.md lists every key (furrow init DIR writes a template)");
+    }
+    let msg = msg
+        .replace("expected f64", "expected a number")
+        .replace("expected i64", "expected a whole number")
+        .replace("expected u64", "expected a whole number of 0 or more")
+        .replace("expected a boolean", "expected true or false");
+    if msg == "duplicate key" {
+        return "duplicate key; expected each key once".to_string();
+    }
+    msg
 }
 
 /// Turns serde's "unknown field `x`, expected one of `a`, `b`" into a
@@ -343,7 +388,7 @@ fn suggest(raw: &str) -> String {
         .min_by_key(|(d, _)| *d);
     let hint = match best {
         Some((d, v)) if d <= 3.max(key.len() / 3) => format!("; did you mean '{v}'?"),
-        _ => String::new(),
+        _ => ".".to_string(),
     };
     format!(
         "unknown key '{key}'{hint} Valid keys here: {}",
@@ -442,6 +487,15 @@ impl Plan {
             f64::MAX,
             "a non-negative amount",
         );
+        let budget_ok = self.budget.is_finite() && self.budget >= 0.0;
+        if self.budget == 0.0 {
+            self.issue(
+                issues,
+                b.total.span(),
+                "total",
+                "total is 0, so no tier can be funded; expected a positive amount (at least the cost of the first tier you want to fund)".into(),
+            );
+        }
         if let Some(t) = &b.tail_level {
             self.tail_level = *t.get_ref();
             if !(self.tail_level > 0.0 && self.tail_level < 1.0) {
@@ -459,6 +513,8 @@ impl Plan {
         if let Some(m) = &b.max_tail_loss {
             match resolve_amount(m.get_ref(), self.budget) {
                 Ok(v) => self.max_tail_loss = Some(v),
+                // A share of a budget that is itself refused is not a second problem.
+                Err(_) if !budget_ok && is_share(m.get_ref()) => {}
                 Err(msg) => self.issue(issues, m.span(), "max_tail_loss", msg),
             }
         }
@@ -504,12 +560,9 @@ impl Plan {
     fn check_economics_complete(&self, issues: &mut Issues) {
         let e = &self.file.economics;
         let file = self.path.display().to_string();
-        if e.value_per_click.is_some() {
-            return;
-        }
         let has_rate =
             e.conversion_rate.is_some() || (e.conversions.is_some() && e.sessions.is_some());
-        if !has_rate || e.order_value.is_none() {
+        if e.value_per_click.is_none() && (!has_rate || e.order_value.is_none()) {
             issues.add(&file, None, Some(("economics", 0)), "[economics] needs a conversion rate (conversion_rate, or conversions and sessions) and an order_value, or a value_per_click");
         }
         if let Some(SeasonalityCfg::Indices(v)) = &e.seasonality {
@@ -616,7 +669,7 @@ impl Plan {
                     issues,
                     v.span(),
                     "min_fraction",
-                    format!("min_fraction ({lo}) exceeds max_fraction ({hi})"),
+                    format!("min_fraction ({lo}) exceeds max_fraction ({hi}); expected min_fraction <= max_fraction"),
                 );
             }
         }
@@ -689,9 +742,9 @@ impl Plan {
             self.horizon = h;
         }
         if let Some(b) = o.budget {
-            if !(b.is_finite() && b >= 0.0) {
+            if !(b.is_finite() && b > 0.0) {
                 return Err(Error::Setting(format!(
-                    "--budget must be a non-negative amount, found {b}"
+                    "--budget must be a positive amount (a budget of 0 funds nothing), found {b}"
                 )));
             }
             self.budget = b;
@@ -736,6 +789,11 @@ pub fn parse_tail_loss(text: &str, budget: f64) -> Result<f64> {
     resolve_amount(&amount, budget).map_err(|m| Error::Setting(format!("--max-tail-loss: {m}")))
 }
 
+/// Whether an amount is a share of the budget (`"15%"`).
+fn is_share(a: &Amount) -> bool {
+    matches!(a, Amount::Text(t) if t.trim().ends_with('%'))
+}
+
 fn resolve_amount(a: &Amount, budget: f64) -> std::result::Result<f64, String> {
     let v = match a {
         Amount::Number(v) => *v,
@@ -773,6 +831,28 @@ mod tests {
             "unknown field `tail_levl`, expected one of `total`, `tail_level`, `max_tail_loss`",
         );
         assert!(msg.contains("did you mean 'tail_level'"), "{msg}");
+    }
+
+    #[test]
+    fn no_close_key_still_reads_as_a_sentence() {
+        let msg = suggest("unknown field `requires`, expected one of `label`, `cost`");
+        assert!(
+            msg.starts_with("unknown key 'requires'. Valid keys here: label, cost"),
+            "{msg}"
+        );
+    }
+
+    #[test]
+    fn parser_words_become_the_words_of_the_docs() {
+        assert_eq!(
+            plain_words("invalid type: string \"x\", expected f64"),
+            "invalid type: string \"x\", expected a number"
+        );
+        let msg = plain_words("missing field `budget`");
+        assert!(
+            msg.starts_with("missing the required key 'budget'"),
+            "{msg}"
+        );
     }
 
     #[test]

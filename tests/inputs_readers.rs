@@ -1,6 +1,8 @@
-//! Reader rules of the foundation issue, each checked on a small fixture
-//! through the binary: exit code, nothing on stdout, and a message naming
-//! file, line and column.
+//! Reader rules of the foundation issue checked through the binary on the
+//! project `furrow init` writes: real-export forms that must load, several
+//! problems reported together, and header mapping. The one-bad-file refusals
+//! (empty, binary, non-UTF-8, gaps, duplicates, out-of-range values, unknown
+//! plan keys, ...) are the catalogue in tests/bad_inputs.rs.
 
 mod common;
 use common::*;
@@ -85,136 +87,6 @@ fn thousands(s: &str) -> String {
     out
 }
 
-fn replace_line(dir: &std::path::Path, file: &str, line_no: usize, new: Option<&str>) {
-    let text = std::fs::read_to_string(dir.join(file)).unwrap();
-    let mut lines: Vec<&str> = text.lines().collect();
-    match new {
-        Some(n) => lines[line_no - 1] = n,
-        None => {
-            lines.remove(line_no - 1);
-        }
-    }
-    write(dir, file, (lines.join("\n") + "\n").as_bytes());
-}
-
-#[test]
-fn missing_month_is_refused_with_the_gap() {
-    let (_t, dir) = project();
-    let text = std::fs::read_to_string(dir.join("history.csv")).unwrap();
-    let removed = text
-        .lines()
-        .nth(5)
-        .unwrap()
-        .split(',')
-        .next()
-        .unwrap()
-        .to_string();
-    replace_line(&dir, "history.csv", 6, None);
-    let o = check(&dir);
-    assert_refused(
-        &o,
-        "history.csv",
-        &["line 6", "column 1", &removed, "consecutive"],
-    );
-}
-
-#[test]
-fn duplicate_month_is_refused() {
-    let (_t, dir) = project();
-    let text = std::fs::read_to_string(dir.join("history.csv")).unwrap();
-    let line3 = text.lines().nth(2).unwrap().to_string();
-    replace_line(&dir, "history.csv", 4, Some(&line3));
-    let o = check(&dir);
-    assert_refused(
-        &o,
-        "history.csv",
-        &["line 4", "column 1", "appears twice", "line 3"],
-    );
-}
-
-#[test]
-fn position_zero_is_refused() {
-    let (_t, dir) = project();
-    let text = std::fs::read_to_string(dir.join("keywords.csv")).unwrap();
-    let l = text.lines().nth(1).unwrap();
-    let mut cells: Vec<String> = l.split(',').map(str::to_string).collect();
-    cells[3] = "0".into();
-    replace_line(&dir, "keywords.csv", 2, Some(&cells.join(",")));
-    let o = check(&dir);
-    assert_refused(
-        &o,
-        "keywords.csv",
-        &[
-            "line 2",
-            "column 4 ('position')",
-            "between 1 and 100",
-            "found 0",
-        ],
-    );
-}
-
-#[test]
-fn text_in_a_number_column_is_refused() {
-    let (_t, dir) = project();
-    let text = std::fs::read_to_string(dir.join("history.csv")).unwrap();
-    let l = text.lines().nth(2).unwrap();
-    let mut cells: Vec<String> = l.split(',').map(str::to_string).collect();
-    cells[1] = "lots".into();
-    replace_line(&dir, "history.csv", 3, Some(&cells.join(",")));
-    let o = check(&dir);
-    assert_refused(
-        &o,
-        "history.csv",
-        &[
-            "line 3",
-            "column 2 ('clicks')",
-            "expected a number",
-            "'lots'",
-        ],
-    );
-}
-
-#[test]
-fn non_utf8_file_is_refused_with_its_line() {
-    let (_t, dir) = project();
-    let mut bytes = std::fs::read(dir.join("keywords.csv")).unwrap();
-    // Put a Latin-1 byte (0xE9) inside the keyword of line 3.
-    let mut line = 1;
-    let mut pos = 0;
-    for (i, b) in bytes.iter().enumerate() {
-        if *b == b'\n' {
-            line += 1;
-            if line == 3 {
-                pos = i + 1;
-                break;
-            }
-        }
-    }
-    bytes.insert(pos + 1, 0xE9);
-    write(&dir, "keywords.csv", &bytes);
-    let o = check(&dir);
-    assert_refused(
-        &o,
-        "keywords.csv",
-        &["line 3", "column 1", "not valid UTF-8", "0xE9"],
-    );
-}
-
-#[test]
-fn empty_and_binary_files_are_refused() {
-    let (_t, dir) = project();
-    write(&dir, "history.csv", b"");
-    let o = check(&dir);
-    assert_refused(&o, "history.csv", &["line 1", "empty", "month, clicks"]);
-    write(
-        &dir,
-        "history.csv",
-        &[0x89, b'P', b'N', b'G', 0, 0, 1, 2, 3],
-    );
-    let o = check(&dir);
-    assert_refused(&o, "history.csv", &["binary"]);
-}
-
 #[test]
 fn several_problems_are_all_reported() {
     let (_t, dir) = project();
@@ -238,48 +110,6 @@ fn several_problems_are_all_reported() {
             "column 3 ('volume')",
         ],
     );
-}
-
-#[test]
-fn unknown_plan_key_suggests_the_closest() {
-    let (_t, dir) = project();
-    let plan = std::fs::read_to_string(dir.join("plan.toml")).unwrap();
-    write(
-        &dir,
-        "plan.toml",
-        plan.replace("tail_level = 0.90", "tail_levl = 0.90")
-            .as_bytes(),
-    );
-    let o = check(&dir);
-    assert_refused(
-        &o,
-        "plan.toml",
-        &[
-            "unknown key 'tail_levl'",
-            "did you mean 'tail_level'",
-            "line ",
-        ],
-    );
-}
-
-#[test]
-fn keyword_in_two_clusters_is_reported() {
-    let (_t, dir) = project();
-    let text = std::fs::read_to_string(dir.join("keywords.csv")).unwrap();
-    let first = text.lines().nth(1).unwrap().to_string();
-    let kw = first.split(',').next().unwrap().to_string();
-    let other_cluster = text
-        .lines()
-        .skip(1)
-        .map(|l| l.split(',').nth(1).unwrap())
-        .find(|c| !first.contains(c))
-        .unwrap()
-        .to_string();
-    let dup = format!("{kw},{other_cluster},100,,20,false");
-    let new = format!("{}{dup}\n", text);
-    write(&dir, "keywords.csv", new.as_bytes());
-    let o = check(&dir);
-    assert_refused(&o, "keywords.csv", &["two clusters", &kw, "line 2"]);
 }
 
 #[test]

@@ -77,6 +77,10 @@ pub struct ClusterSpec {
     pub tiers: Vec<TierSpec>,
     /// Where it was defined (file and line).
     pub origin: String,
+    /// The same place for messages about the cluster: file, 1-based line,
+    /// and the column of its name (header or key, and 1-based position).
+    #[serde(skip)]
+    pub defined_at: (String, u64, (String, usize)),
 }
 
 fn gain_from_cfg(g: &GainCfg) -> GainSpec {
@@ -111,7 +115,8 @@ pub fn from_plan(plan: &Plan) -> Vec<ClusterSpec> {
 }
 
 fn from_cfg(plan: &Plan, c: &ClusterCfg) -> ClusterSpec {
-    let (line, _) = crate::plan::line_col(&plan.text, c.name.span().start);
+    let (line, col) = crate::plan::line_col(&plan.text, c.name.span().start);
+    let file = plan.path.display().to_string();
     ClusterSpec {
         name: c.name.get_ref().clone(),
         start: c.start.as_ref().and_then(|s| Month::parse(s.get_ref())),
@@ -128,7 +133,8 @@ fn from_cfg(plan: &Plan, c: &ClusterCfg) -> ClusterSpec {
                 max_fraction: t.max_fraction.as_ref().map(|v| *v.get_ref()).unwrap_or(1.0),
             })
             .collect(),
-        origin: format!("{}, line {line}", plan.path.display()),
+        origin: format!("{file}, line {line}"),
+        defined_at: (file, line as u64, ("name".to_string(), col)),
     }
 }
 
@@ -168,7 +174,12 @@ pub fn read(path: &Path, mapping: &BTreeMap<String, String>) -> Result<Vec<Clust
             rows.push(r);
         }
     }
-    let clusters = group(&t.file, rows, &mut issues);
+    t.expect_rows(
+        &mut issues,
+        "one row per tier (cluster, tier, cost, effort)",
+    );
+    let columns = (t.column(0), t.column(1));
+    let clusters = group(&t.file, columns, rows, &mut issues);
     issues.into_result(clusters)
 }
 
@@ -176,7 +187,7 @@ fn read_row(t: &table::Table, issues: &mut Issues) -> Option<Row> {
     let cluster = t.text(0, issues).map(str::to_string);
     let tier = t.number_in(1, 1.0, 50.0, NumberKind::Plain, issues);
     let cost = t.number_in(2, 0.0, f64::MAX, NumberKind::Plain, issues);
-    let effort = t.number_in(3, 1e-9, 1e6, NumberKind::Plain, issues);
+    let effort = read_effort(t, issues);
     let start = read_start(t, issues)?;
     let lo = opt_in(t, 6, issues, 0.0)?;
     let hi = opt_in(t, 7, issues, 1.0)?;
@@ -192,6 +203,14 @@ fn read_row(t: &table::Table, issues: &mut Issues) -> Option<Row> {
     }
     if cluster.is_empty() {
         t.complain(0, issues, "expected a cluster name, found an empty cell");
+        return None;
+    }
+    if lo > hi {
+        t.complain(
+            6,
+            issues,
+            format!("min_fraction ({lo}) exceeds max_fraction ({hi}); expected min_fraction <= max_fraction"),
+        );
         return None;
     }
     let label = t
@@ -212,6 +231,17 @@ fn read_row(t: &table::Table, issues: &mut Issues) -> Option<Row> {
         },
         line: t.line(),
     })
+}
+
+/// Effort: positive (1 = a standard unit of work), at most 1e6.
+fn read_effort(t: &table::Table, issues: &mut Issues) -> Option<f64> {
+    let v = t.number_in(3, 0.0, 1e6, NumberKind::Plain, issues)?;
+    if v <= 0.0 {
+        let msg = format!("expected a positive effort (1 = a standard unit of work), found {v}");
+        t.complain(3, issues, msg);
+        return None;
+    }
+    Some(v)
 }
 
 fn read_start(t: &table::Table, issues: &mut Issues) -> Option<Option<Month>> {
@@ -288,8 +318,14 @@ fn read_gain(t: &table::Table, issues: &mut Issues) -> Option<Option<GainSpec>> 
     Some(Some(GainSpec { shape, over }))
 }
 
-/// Groups tier rows by cluster, checking tiers run 1, 2, ... with no gaps.
-fn group(file: &str, rows: Vec<Row>, issues: &mut Issues) -> Vec<ClusterSpec> {
+/// Groups tier rows by cluster, checking tiers run 1, 2, ... with no gaps;
+/// `columns` are the cluster and tier columns' headers and positions.
+fn group(
+    file: &str,
+    columns: ((String, usize), (String, usize)),
+    rows: Vec<Row>,
+    issues: &mut Issues,
+) -> Vec<ClusterSpec> {
     let mut by: Vec<(String, Vec<Row>)> = Vec::new();
     for r in rows {
         match by.iter_mut().find(|(n, _)| *n == r.cluster) {
@@ -297,6 +333,7 @@ fn group(file: &str, rows: Vec<Row>, issues: &mut Issues) -> Vec<ClusterSpec> {
             None => by.push((r.cluster.clone(), vec![r])),
         }
     }
+    let (cluster_col, tier_col) = columns;
     let mut out = Vec::new();
     for (name, mut rs) in by {
         rs.sort_by_key(|r| r.tier);
@@ -304,7 +341,7 @@ fn group(file: &str, rows: Vec<Row>, issues: &mut Issues) -> Vec<ClusterSpec> {
         for (i, r) in rs.iter().enumerate() {
             if r.tier != i + 1 {
                 let msg = format!("cluster '{name}': expected tier {} here (tiers run 1, 2, 3... once each), found tier {}", i + 1, r.tier);
-                issues.add(file, Some(r.line), Some(("tier", 2)), msg);
+                issues.add(file, Some(r.line), Some((&tier_col.0, tier_col.1)), msg);
                 break;
             }
         }
@@ -313,6 +350,7 @@ fn group(file: &str, rows: Vec<Row>, issues: &mut Issues) -> Vec<ClusterSpec> {
             start: rs.iter().find_map(|r| r.start),
             tiers: rs.into_iter().map(|r| r.spec).collect(),
             origin: format!("{file}, line {first_line}"),
+            defined_at: (file.to_string(), first_line, cluster_col.clone()),
         });
     }
     out

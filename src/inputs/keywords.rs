@@ -103,6 +103,7 @@ pub fn read(path: &Path, mapping: &BTreeMap<String, String>) -> Result<KeywordSe
             l.set.keywords.push(k);
         }
     }
+    t.expect_rows(&mut l.issues, "one row per keyword");
     l.issues.into_result(l.set)
 }
 
@@ -128,15 +129,18 @@ impl Loader {
             );
             return None;
         }
+        // Only a row that is kept reaches the duplicate check, which
+        // registers it under the index it is pushed at.
+        let (volume, position, difficulty, branded) = (volume?, position?, difficulty?, branded?);
         let cid = self.cluster_id(&cluster);
         self.check_duplicate(t, &text, cid)?;
         Some(Keyword {
             text: text.into_boxed_str(),
             cluster: cid,
-            volume: volume?,
-            position: position?,
-            difficulty: difficulty?,
-            branded: branded?,
+            volume,
+            position,
+            difficulty,
+            branded,
         })
     }
 
@@ -157,7 +161,9 @@ impl Loader {
         let index = self.set.keywords.len() as u32;
         match self.seen.get(&h) {
             Some(&(other, line)) => {
-                let prev = &self.set.keywords[other as usize];
+                let Some(prev) = self.set.keywords.get(other as usize) else {
+                    return Some(());
+                };
                 if normalise(&prev.text) != normalise(text) {
                     return Some(()); // a hash collision of different keywords
                 }

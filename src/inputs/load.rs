@@ -156,13 +156,11 @@ pub fn load_inputs(plan: Plan) -> Result<Inputs> {
     let (Some(history), Some(keywords)) = (history, keywords) else {
         return Err(Error::Input(issues));
     };
+    // A cluster file that could not be read is already reported; the plan
+    // then is not "without clusters".
+    let clusters_unread = cfg.clusters.is_some() && csv_clusters.is_none();
     let mut clusters = clusters::from_plan(&plan);
-    merge_clusters(
-        &plan,
-        &mut clusters,
-        csv_clusters.unwrap_or_default(),
-        &mut issues,
-    );
+    merge_clusters(&mut clusters, csv_clusters.unwrap_or_default(), &mut issues);
     let mut inputs = Inputs {
         start: history
             .last()
@@ -179,8 +177,10 @@ pub fn load_inputs(plan: Plan) -> Result<Inputs> {
         warnings: Vec::new(),
         files,
     };
-    inputs.cross_check(&mut issues);
-    issues.into_result(inputs)
+    inputs.cross_check(&mut issues, clusters_unread);
+    let inputs = issues.into_result(inputs)?;
+    inputs.check_minimums_fit()?;
+    Ok(inputs)
 }
 
 fn optional<T>(
@@ -197,16 +197,12 @@ fn optional<T>(
     keep(read(&p), issues)
 }
 
-fn merge_clusters(
-    plan: &Plan,
-    clusters: &mut Vec<ClusterSpec>,
-    more: Vec<ClusterSpec>,
-    issues: &mut Issues,
-) {
+fn merge_clusters(clusters: &mut Vec<ClusterSpec>, more: Vec<ClusterSpec>, issues: &mut Issues) {
     for c in more {
         if let Some(prev) = clusters.iter().find(|p| p.name == c.name) {
             let msg = format!("the cluster '{}' is defined both in the plan ({}) and in the cluster file ({}); define it once", c.name, prev.origin, c.origin);
-            issues.add(&plan.path.display().to_string(), None, None, msg);
+            let (file, line, (key, col)) = &prev.defined_at;
+            issues.add(file, Some(*line), Some((key, *col)), msg);
         } else {
             clusters.push(c);
         }
@@ -214,9 +210,9 @@ fn merge_clusters(
 }
 
 impl Inputs {
-    fn cross_check(&mut self, issues: &mut Issues) {
+    fn cross_check(&mut self, issues: &mut Issues, clusters_unread: bool) {
         self.check_history(issues);
-        self.check_clusters(issues);
+        self.check_clusters(issues, clusters_unread);
         self.check_interest();
         self.check_actuals(issues);
     }
@@ -247,12 +243,13 @@ impl Inputs {
         };
     }
 
-    fn check_clusters(&mut self, issues: &mut Issues) {
+    fn check_clusters(&mut self, issues: &mut Issues, clusters_unread: bool) {
         let plan_file = self.plan.path.display().to_string();
-        if self.clusters.is_empty() {
+        if self.clusters.is_empty() && !clusters_unread {
             issues.add(&plan_file, None, None, "the plan defines no clusters to fund; add [[cluster]] tables with tiers (or [inputs] clusters = \"FILE\")");
         }
         for c in &self.clusters {
+            let (file, line, (key, col)) = &c.defined_at;
             if !self.keywords.clusters.contains(&c.name) {
                 let known = self
                     .keywords
@@ -263,12 +260,12 @@ impl Inputs {
                     .collect::<Vec<_>>()
                     .join(", ");
                 issues.add(
-                    &plan_file,
-                    None,
-                    None,
+                    file,
+                    Some(*line),
+                    Some((key, *col)),
                     format!(
-                        "the cluster '{}' ({}) has no keywords in {}; clusters there: {known}",
-                        c.name, c.origin, self.keywords.file
+                        "the cluster '{}' has no keywords in {}; expected one of the clusters there: {known}",
+                        c.name, self.keywords.file
                     ),
                 );
             }
@@ -297,6 +294,52 @@ impl Inputs {
         }
     }
 
+    /// The smallest fraction each tier must be funded at: its own
+    /// min_fraction, raised to that of any tier above it (which builds on it).
+    fn effective_minimums(c: &ClusterSpec) -> Vec<f64> {
+        let mut eff: Vec<f64> = c.tiers.iter().map(|t| t.min_fraction).collect();
+        for i in (0..eff.len().saturating_sub(1)).rev() {
+            eff[i] = eff[i].max(eff[i + 1]);
+        }
+        eff
+    }
+
+    /// Refuses, before any simulation, must-fund tiers (min_fraction) that
+    /// their lower tiers' max_fraction or the budget cannot satisfy: no
+    /// allocation exists then (exit code 3 for the budget).
+    fn check_minimums_fit(&self) -> Result<()> {
+        let plan_file = self.plan.path.display().to_string();
+        let mut issues = Issues::default();
+        let mut cost = 0.0;
+        let mut must: Vec<String> = Vec::new();
+        for c in &self.clusters {
+            let eff = Self::effective_minimums(c);
+            for (i, (t, m)) in c.tiers.iter().zip(&eff).enumerate() {
+                if *m > t.max_fraction + 1e-12 {
+                    let (file, line, (key, col)) = &c.defined_at;
+                    issues.add(file, Some(*line), Some((key, *col)), format!("the cluster '{}': tier {} is capped at max_fraction {} but a tier above it, which builds on it, must be funded at least {m}; expected max_fraction of at least {m}", c.name, i + 1, t.max_fraction));
+                }
+                if *m > 0.0 {
+                    cost += m * t.cost;
+                    must.push(format!("{}/{}", c.name, i + 1));
+                }
+            }
+        }
+        issues.into_result(())?;
+        let budget = self.plan.budget;
+        if cost > budget * (1.0 + 1e-12) {
+            let cur = &self.plan.currency;
+            return Err(Error::Infeasible(format!(
+                "{plan_file}: the must-fund tiers (min_fraction > 0: {}) cost {} but the budget is {}, so no allocation can fund them; raise the budget ([budget] total or --budget) to at least {}, or lower their min_fraction",
+                must.join(", "),
+                crate::text::money(cost, cur),
+                crate::text::money(budget, cur),
+                crate::text::money(cost.ceil(), cur),
+            )));
+        }
+        Ok(())
+    }
+
     fn check_interest(&mut self) {
         let Some(idx) = &self.interest else { return };
         let covers = self.history.months.iter().all(|m| idx.months.contains(m));
@@ -318,5 +361,34 @@ impl Inputs {
     /// Months of history.
     pub fn history_months(&self) -> usize {
         self.history.len()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::inputs::clusters::TierSpec;
+
+    fn tier(min_fraction: f64) -> TierSpec {
+        TierSpec {
+            label: String::new(),
+            cost: 1.0,
+            effort: 1.0,
+            gain: None,
+            min_fraction,
+            max_fraction: 1.0,
+        }
+    }
+
+    #[test]
+    fn a_must_fund_tier_raises_the_tiers_it_builds_on() {
+        let c = ClusterSpec {
+            name: "c".into(),
+            start: None,
+            tiers: vec![tier(0.0), tier(0.0), tier(1.0), tier(0.5)],
+            origin: String::new(),
+            defined_at: Default::default(),
+        };
+        assert_eq!(Inputs::effective_minimums(&c), vec![1.0, 1.0, 1.0, 0.5]);
     }
 }

@@ -112,8 +112,10 @@ pub fn read(
     let mut rows: Vec<(Month, u64, Vec<f64>)> = Vec::new();
     let mut extra_vals: Vec<Vec<f64>> = vec![Vec::new(); extras.len()];
     let mut non_numeric = BTreeMap::new();
+    let mut unreadable_months = 0;
     while t.next_row(&mut issues) {
         let Some(month) = read_month(&t, &mut issues) else {
+            unreadable_months += 1;
             continue;
         };
         let mut vals = Vec::with_capacity(specs.len());
@@ -130,7 +132,12 @@ pub fn read(
         read_extras(&t, &extras, &mut extra_vals, &mut non_numeric);
         rows.push((month, t.line(), vals));
     }
-    let months = check_months(&t.file, &mut rows, &mut issues);
+    t.expect_rows(&mut issues, "one row per month");
+    let (name, pos) = t.column(0);
+    // A row refused for its month or its shape is reported already; the gap
+    // it leaves is not a second problem.
+    let gaps = unreadable_months == 0 && t.skipped() == 0;
+    let months = check_months(&t.file, (&name, pos), gaps, &mut rows, &mut issues);
     let mut columns = BTreeMap::new();
     let present: Vec<&ColumnSpec> = specs
         .iter()
@@ -207,9 +214,12 @@ fn add_extras(
     }
 }
 
-/// Sorts rows by month and reports duplicates and gaps with their lines.
+/// Sorts rows by month and reports duplicates and (when `gaps`) gaps with
+/// their lines, at the month column (header name and position).
 fn check_months(
     file: &str,
+    column: (&str, usize),
+    gaps: bool,
     rows: &mut [(Month, u64, Vec<f64>)],
     issues: &mut Issues,
 ) -> Vec<Month> {
@@ -222,8 +232,8 @@ fn check_months(
                 "the month {} appears twice (also on line {}); expected each month once",
                 b.0, a.1
             );
-            issues.add(file, Some(b.1), Some(("month", 1)), msg);
-        } else if gap > 1 {
+            issues.add(file, Some(b.1), Some(column), msg);
+        } else if gap > 1 && gaps {
             let msg = format!(
                 "months must be consecutive: {} is missing between {} (line {}) and {} (line {})",
                 missing_range(a.0, b.0),
@@ -232,7 +242,7 @@ fn check_months(
                 b.0,
                 b.1
             );
-            issues.add(file, Some(b.1), Some(("month", 1)), msg);
+            issues.add(file, Some(b.1), Some(column), msg);
         }
     }
     rows.iter().map(|r| r.0).collect()

@@ -30,6 +30,10 @@ pub fn parse_number(raw: &str, kind: NumberKind) -> Result<f64, String> {
         }
         None => (t, 1.0),
     };
+    let word = body.trim_start_matches(['-', '+']).to_ascii_lowercase();
+    if matches!(word.as_str(), "nan" | "inf" | "infinity") {
+        return Err(format!("expected a finite number, found '{t}'"));
+    }
     let cleaned = strip_thousands(body).ok_or_else(|| not_a_number(t))?;
     if !cleaned
         .bytes()
@@ -111,6 +115,10 @@ mod tests {
             assert!(parse_number(bad, NumberKind::Plain).is_err(), "{bad:?}");
         }
         assert!(parse_number("3%", NumberKind::Plain).is_err());
+        for word in ["NaN", "-inf", "Infinity", "+INF"] {
+            let e = parse_number(word, NumberKind::Plain).unwrap_err();
+            assert!(e.starts_with("expected a finite number"), "{word}: {e}");
+        }
     }
 
     #[test]

@@ -60,5 +60,6 @@ pub fn read(path: &Path, mapping: &BTreeMap<String, String>) -> Result<Vec<Query
             position,
         });
     }
+    t.expect_rows(&mut issues, "one row per query");
     issues.into_result(rows)
 }

@@ -11,7 +11,7 @@
 use super::number::NumberKind;
 use super::table::{self, optional, required, ColumnSpec};
 use crate::error::{Issues, Result};
-use std::collections::{BTreeMap, HashMap};
+use std::collections::{BTreeMap, HashMap, HashSet};
 use std::path::Path;
 
 /// The futures: `values[s * ids.len() + i]` is id `i` in future `s`.
@@ -41,22 +41,25 @@ pub struct CostRow {
     pub max_fraction: f64,
     pub requires: Option<String>,
     pub line: u64,
+    /// 1-based position of the `id` column in the costs file.
+    pub id_column: usize,
 }
 
 /// Reads the returns file.
 pub fn read_returns(path: &Path) -> Result<Returns> {
-    let mut t = table::open(path, &[], &BTreeMap::new())?;
+    let header = "a header line of investment ids (such as cluster/tier), then one row of net returns per future";
+    let mut t = table::open_as(path, &[], &BTreeMap::new(), header)?;
     let mut issues = Issues::default();
     let ids: Vec<String> = t.headers().to_vec();
     check_ids(&t, &ids, &mut issues);
     let mut values = Vec::new();
     while t.next_row(&mut issues) {
         for (i, id) in ids.iter().enumerate() {
-            let cell = t
-                .raw(i)
-                .map(|c| String::from_utf8_lossy(c).to_string())
-                .unwrap_or_default();
-            match super::number::parse_number(&cell, NumberKind::Plain) {
+            let Some(cell) = t.cell(i, &mut issues) else {
+                values.push(0.0);
+                continue;
+            };
+            match super::number::parse_number(cell, NumberKind::Plain) {
                 Ok(v) if v.abs() < f32::MAX as f64 => values.push(v as f32),
                 Ok(v) => {
                     issues.add(
@@ -119,8 +122,15 @@ pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
     let mut t = table::open(path, COST_COLUMNS, &BTreeMap::new())?;
     let mut issues = Issues::default();
     let mut rows: Vec<CostRow> = Vec::new();
+    // Every id named in the file, kept rows or not, so that a `requires` of
+    // a refused row is not also reported as unknown.
+    let mut named: HashSet<String> = HashSet::new();
+    let id_column = t.column(0).1;
     while t.next_row(&mut issues) {
         let id = t.text(0, &mut issues).map(str::to_string);
+        if let Some(id) = id.as_ref().filter(|s| !s.is_empty()) {
+            named.insert(id.clone());
+        }
         let cost = t.number_in(1, 0.0, f64::MAX, NumberKind::Plain, &mut issues);
         let max = fraction(&t, 2, 1.0, &mut issues);
         let min = fraction(&t, 4, 0.0, &mut issues);
@@ -143,7 +153,7 @@ pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
             t.complain(
                 4,
                 &mut issues,
-                format!("min_fraction ({min}) exceeds max_fraction ({max})"),
+                format!("min_fraction ({min}) exceeds max_fraction ({max}); expected min_fraction <= max_fraction"),
             );
         }
         if let Some(prev) = rows.iter().find(|r| r.id == id) {
@@ -164,9 +174,12 @@ pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
             max_fraction: max,
             requires,
             line: t.line(),
+            id_column,
         });
     }
-    check_requires(&t.file, &rows, &mut issues);
+    t.expect_rows(&mut issues, "one row per investment id (id, cost)");
+    let (name, pos) = t.column(3);
+    check_requires(&t.file, (&name, pos), &rows, &named, &mut issues);
     issues.into_result(rows)
 }
 
@@ -177,8 +190,15 @@ fn fraction(t: &table::Table, k: usize, default: f64, issues: &mut Issues) -> Op
     t.number_in(k, 0.0, 1.0, NumberKind::Rate, issues)
 }
 
-/// `requires` must name a listed id and must not form a cycle.
-fn check_requires(file: &str, rows: &[CostRow], issues: &mut Issues) {
+/// `requires` must name a listed id and must not form a cycle; `column` is
+/// the `requires` column's header and position, `named` every id in the file.
+fn check_requires(
+    file: &str,
+    column: (&str, usize),
+    rows: &[CostRow],
+    named: &HashSet<String>,
+    issues: &mut Issues,
+) {
     let index: HashMap<&str, usize> = rows
         .iter()
         .enumerate()
@@ -187,12 +207,15 @@ fn check_requires(file: &str, rows: &[CostRow], issues: &mut Issues) {
     for r in rows {
         let Some(req) = &r.requires else { continue };
         if !index.contains_key(req.as_str()) {
+            if named.contains(req) {
+                continue; // its own row was refused, and reported
+            }
             issues.add(
                 file,
                 Some(r.line),
-                Some(("requires", 4)),
+                Some(column),
                 format!(
-                    "'{}' requires '{req}', which is not an id in this file",
+                    "'{}' requires '{req}', which is not an id in this file; expected an id listed in the id column (the tier below)",
                     r.id
                 ),
             );
@@ -201,7 +224,7 @@ fn check_requires(file: &str, rows: &[CostRow], issues: &mut Issues) {
         let mut cur = req.as_str();
         for _ in 0..=rows.len() {
             if cur == r.id {
-                issues.add(file, Some(r.line), Some(("requires", 4)), format!("'{}' requires itself through a cycle of 'requires'; expected a chain that ends at a first tier", r.id));
+                issues.add(file, Some(r.line), Some(column), format!("'{}' requires itself through a cycle of 'requires'; expected a chain that ends at a first tier", r.id));
                 break;
             }
             match index.get(cur).and_then(|&i| rows[i].requires.as_deref()) {
@@ -225,7 +248,7 @@ pub fn match_ids(returns: &Returns, costs: &[CostRow], costs_file: &str) -> Resu
     }
     for c in costs {
         if !returns.ids.contains(&c.id) {
-            issues.add(costs_file, Some(c.line), Some(("id", 1)), format!("the id '{}' is not in the returns header of {}; expected the same ids in both files", c.id, returns.file));
+            issues.add(costs_file, Some(c.line), Some(("id", c.id_column)), format!("the id '{}' is not in the returns header of {}; expected the same ids in both files", c.id, returns.file));
         }
     }
     issues.into_result(ordered)

@@ -56,6 +56,12 @@ pub struct Table {
     names: Vec<&'static str>,
     record: ByteRecord,
     line: u64,
+    /// The line of the header.
+    header_line: u64,
+    /// Data rows seen so far (ragged ones included, blank lines not).
+    rows: u64,
+    /// Rows skipped as unreadable or ragged (already reported).
+    skipped: u64,
     /// The delimiter found.
     pub delimiter: u8,
 }
@@ -68,6 +74,17 @@ pub fn open(
     path: &Path,
     specs: &[ColumnSpec],
     mapping: &BTreeMap<String, String>,
+) -> Result<Table> {
+    open_as(path, specs, mapping, &expected_header(specs))
+}
+
+/// Like [`open`], for files whose header is not a fixed set of columns:
+/// `header` says what the header should hold (for an empty file's message).
+pub fn open_as(
+    path: &Path,
+    specs: &[ColumnSpec],
+    mapping: &BTreeMap<String, String>,
+    header: &str,
 ) -> Result<Table> {
     let file = path.display().to_string();
     let mut f = File::open(path).map_err(|source| Error::Read {
@@ -82,7 +99,7 @@ pub fn open(
             path: path.to_path_buf(),
             source,
         })?;
-    check_encoding(&file, &peek, specs)?;
+    check_encoding(&file, &peek, header)?;
     let skip = if peek.starts_with(b"\xEF\xBB\xBF") {
         3
     } else {
@@ -111,9 +128,12 @@ pub fn open(
         names: specs.iter().map(|s| s.name).collect(),
         record: ByteRecord::new(),
         line: 0,
+        header_line: 1,
+        rows: 0,
+        skipped: 0,
         delimiter,
     };
-    table.read_header(specs, mapping)?;
+    table.read_header(specs, mapping, header)?;
     Ok(table)
 }
 
@@ -126,11 +146,12 @@ fn expected_header(specs: &[ColumnSpec]) -> String {
     format!("a header line with the columns {}", req.join(", "))
 }
 
-/// Refuses empty, binary, UTF-16 and non-UTF-8 starts of file.
-fn check_encoding(file: &str, peek: &[u8], specs: &[ColumnSpec]) -> Result<()> {
+/// Refuses empty, binary, UTF-16 and non-UTF-8 starts of file; `header`
+/// says what the first line should hold.
+fn check_encoding(file: &str, peek: &[u8], header: &str) -> Result<()> {
     let body = peek.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(peek);
     if body.iter().all(|b| b.is_ascii_whitespace()) {
-        let msg = format!("the file is empty; expected {}", expected_header(specs));
+        let msg = format!("the file is empty; expected {header}");
         return Err(Error::input(file, Some(1), None, &msg));
     }
     if peek.starts_with(b"\xFF\xFE") || peek.starts_with(b"\xFE\xFF") {
@@ -174,6 +195,7 @@ impl Table {
         &mut self,
         specs: &[ColumnSpec],
         mapping: &BTreeMap<String, String>,
+        header: &str,
     ) -> Result<()> {
         let mut rec = ByteRecord::new();
         let ok = self.reader.read_byte_record(&mut rec).map_err(|e| {
@@ -185,19 +207,21 @@ impl Table {
             )
         })?;
         if !ok {
-            let msg = format!("the file is empty; expected {}", expected_header(specs));
+            let msg = format!("the file is empty; expected {header}");
             return Err(Error::input(&self.file, Some(1), None, &msg));
         }
         self.line = rec.position().map(|p| p.line()).unwrap_or(1);
+        self.header_line = self.line;
         let mut issues = Issues::default();
         for (i, cell) in rec.iter().enumerate() {
             match std::str::from_utf8(cell) {
                 Ok(s) => self.headers.push(s.trim().to_string()),
                 Err(e) => {
+                    let shown = String::from_utf8_lossy(cell);
                     issues.add(
                         &self.file,
                         Some(self.line),
-                        Some(("?", i + 1)),
+                        Some((shown.trim(), i + 1)),
                         utf8_msg(cell, e),
                     );
                     self.headers.push(String::new());
@@ -279,6 +303,7 @@ impl Table {
                 Err(e) => {
                     let line = e.position().map(|p| p.line());
                     issues.add(&self.file, line, None, format!("cannot read the row: {e}"));
+                    self.skipped += 1;
                     return false;
                 }
             }
@@ -295,6 +320,7 @@ impl Table {
             {
                 continue;
             }
+            self.rows += 1;
             if self.record.len() != self.headers.len() {
                 let msg = format!(
                     "expected {} fields as in the header, found {}",
@@ -302,9 +328,37 @@ impl Table {
                     self.record.len()
                 );
                 issues.add(&self.file, Some(self.line), None, msg);
+                self.skipped += 1;
                 continue;
             }
             return true;
+        }
+    }
+
+    /// Rows skipped so far because they could not be read or were ragged
+    /// (each already reported).
+    pub fn skipped(&self) -> u64 {
+        self.skipped
+    }
+
+    /// Records "no rows after the header" when the file has a header and
+    /// nothing else; `what` says what each row should be.
+    pub fn expect_rows(&self, issues: &mut Issues, what: &str) {
+        if self.rows == 0 {
+            let msg = format!("no rows after the header; expected {what}");
+            issues.add(&self.file, Some(self.header_line + 1), None, msg);
+        }
+    }
+
+    /// The header name and 1-based position of spec `k`'s column, as
+    /// messages show it (the canonical name when the file lacks it).
+    pub fn column(&self, k: usize) -> (String, usize) {
+        match self.index.get(k).copied().flatten() {
+            Some(_) => {
+                let (name, pos) = self.col(k);
+                (name.to_string(), pos)
+            }
+            None => (self.names.get(k).copied().unwrap_or("?").to_string(), 0),
         }
     }
 
@@ -386,7 +440,7 @@ impl Table {
     ) -> Option<f64> {
         let v = self.required_number(k, kind, issues)?;
         if v < lo || v > hi {
-            let range = if hi.is_infinite() {
+            let range = if hi >= f64::MAX {
                 format!("at least {lo}")
             } else {
                 format!("between {lo} and {hi}")
@@ -409,6 +463,26 @@ impl Table {
     pub fn raw(&self, pos: usize) -> Option<&[u8]> {
         self.record.get(pos)
     }
+
+    /// The text of file column `pos` on the current row, trimmed; a cell
+    /// that is not UTF-8 is recorded (with the column's header) and gives
+    /// `None`.
+    pub fn cell(&self, pos: usize, issues: &mut Issues) -> Option<&str> {
+        let cell = self.record.get(pos)?;
+        match std::str::from_utf8(cell) {
+            Ok(s) => Some(s.trim()),
+            Err(e) => {
+                let name = self.headers.get(pos).map(String::as_str).unwrap_or("");
+                issues.add(
+                    &self.file,
+                    Some(self.line),
+                    Some((name, pos + 1)),
+                    utf8_msg(cell, e),
+                );
+                None
+            }
+        }
+    }
 }
 
 fn utf8_msg(cell: &[u8], e: std::str::Utf8Error) -> String {
@@ -430,5 +504,43 @@ mod tests {
         assert_eq!(detect_delimiter(b"\"a;b\",c\n"), b',');
         assert_eq!(detect_delimiter(b"a\tb\tc"), b'\t');
         assert_eq!(detect_delimiter(b"single"), b',');
+    }
+
+    fn table_of(text: &str) -> (tempfile::TempDir, Table) {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("t.csv");
+        std::fs::write(&path, text).unwrap();
+        let specs = [required("month"), required("clicks")];
+        let t = open(&path, &specs, &BTreeMap::new()).unwrap();
+        (dir, t)
+    }
+
+    #[test]
+    fn a_header_without_rows_is_reported_on_the_next_line() {
+        let (_dir, mut t) = table_of("month,clicks\n\n");
+        let mut issues = Issues::default();
+        assert!(!t.next_row(&mut issues));
+        t.expect_rows(&mut issues, "one row per month");
+        let shown = issues.items()[0].to_string();
+        assert!(
+            shown.ends_with("line 2: no rows after the header; expected one row per month"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn an_unbounded_range_says_at_least() {
+        let (_dir, mut t) = table_of("month,clicks\n2025-01,-3\n");
+        let mut issues = Issues::default();
+        assert!(t.next_row(&mut issues));
+        assert_eq!(
+            t.number_in(1, 0.0, f64::MAX, NumberKind::Plain, &mut issues),
+            None
+        );
+        let shown = issues.items()[0].to_string();
+        assert!(
+            shown.ends_with("expected a number at least 0, found -3"),
+            "{shown}"
+        );
     }
 }

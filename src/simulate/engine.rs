@@ -83,6 +83,17 @@ pub fn check_memory(model: &Model, scenarios: usize, max_memory: u64) -> Result<
     }
     let per = memory_estimate(model, 2) - memory_estimate(model, 1);
     let fits = max_memory.saturating_sub(memory_estimate(model, 0)) / per.max(1);
+    let mib = |bytes: u64| bytes.div_ceil(1024 * 1024);
+    if fits < 100 {
+        // Not even the smallest run (100 futures) fits: say what would.
+        return Err(Error::Memory(format!(
+            "{scenarios} futures would need about {} MiB, above the limit of {} MiB, and even the smallest run (100 futures) needs about {} MiB; raise --max-memory to at least {}",
+            need / (1024 * 1024),
+            max_memory / (1024 * 1024),
+            mib(memory_estimate(model, 100)),
+            mib(memory_estimate(model, 100)),
+        )));
+    }
     Err(Error::Memory(format!(
         "{scenarios} futures would need about {} MiB, above the limit of {} MiB; the largest count that fits is {fits} (use --scenarios {fits}, or raise --max-memory)",
         need / (1024 * 1024),
