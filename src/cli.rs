@@ -126,9 +126,9 @@ fn allocate_files(
     let r = scenarios::read_returns(returns)?;
     let c = scenarios::read_costs(costs)?;
     let c = scenarios::match_ids(&r, &c, &costs.display().to_string())?;
-    if !(budget.is_finite() && budget >= 0.0) {
+    if !(budget.is_finite() && budget > 0.0) {
         return Err(furrow::Error::Setting(format!(
-            "--budget must be a non-negative amount, found {budget}"
+            "--budget must be a positive amount (a budget of 0 funds nothing), found {budget}"
         ))
         .into());
     }
@@ -735,16 +735,15 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 &no_map,
                 furrow::inputs::monthly::NON_NEGATIVE,
             )?;
-            if a.first() != Some(s.inputs.start) || a.len() > s.inputs.plan.horizon {
-                return Err(furrow::Error::Setting(format!(
-                    "{}: actuals must start at the forecast start {} and cover at most {} months; found {} months from {}",
-                    a.file,
-                    s.inputs.start,
-                    s.inputs.plan.horizon,
-                    a.len(),
-                    a.first().map(|m| m.to_string()).unwrap_or_else(|| "nothing".into())
-                ))
-                .into());
+            let mut issues = furrow::error::Issues::default();
+            furrow::inputs::load::check_actuals_span(
+                &a,
+                s.inputs.start,
+                s.inputs.plan.horizon,
+                &mut issues,
+            );
+            if !issues.is_empty() {
+                return Err(furrow::Error::Input(issues).into());
             }
             let chosen = s.allocate(&furrow::allocate::SolveOptions::default())?;
             let report = furrow::analysis::track_report(&s, &chosen, &a)?;

@@ -179,7 +179,10 @@ impl Error {
     pub fn exit_code(&self) -> u8 {
         use crate::baseline::BaselineError as B;
         match self {
-            Error::Allocate(crate::allocate::AllocError::Infeasible { .. })
+            Error::Allocate(
+                crate::allocate::AllocError::Infeasible { .. }
+                | crate::allocate::AllocError::MinimumsOverBudget { .. },
+            )
             | Error::Infeasible(_) => 3,
             Error::Setting(_)
             | Error::Baseline(

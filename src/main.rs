@@ -14,7 +14,7 @@ fn main() -> ExitCode {
     match cli::run(args) {
         Ok(code) => code,
         Err(err) => {
-            eprintln!("error: {err:#}");
+            eprintln!("error: {}", message(&err));
             let code = err
                 .downcast_ref::<furrow::Error>()
                 .map(cli::exit_code)
@@ -22,4 +22,22 @@ fn main() -> ExitCode {
             ExitCode::from(code)
         }
     }
+}
+
+/// The error and its causes on one line, each cause once: a library error
+/// such as "cannot read F: No such file" already names its cause, so a
+/// cause whose text the line holds already is not repeated.
+fn message(err: &anyhow::Error) -> String {
+    let mut line = String::new();
+    for cause in err.chain() {
+        let text = cause.to_string();
+        if line.contains(&text) {
+            continue;
+        }
+        if !line.is_empty() {
+            line.push_str(": ");
+        }
+        line.push_str(&text);
+    }
+    line
 }

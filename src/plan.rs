@@ -748,6 +748,16 @@ impl Plan {
                 )));
             }
             self.budget = b;
+            // A limit given as a share of the budget follows the new budget.
+            let share = self
+                .file
+                .budget
+                .max_tail_loss
+                .as_ref()
+                .filter(|m| is_share(m.get_ref()));
+            if let (Some(m), None) = (share, &o.max_tail_loss) {
+                self.max_tail_loss = Some(resolve_amount(m.get_ref(), b).map_err(Error::Setting)?);
+            }
         }
         if let Some(q) = o.tail_level {
             self.tail_level = check_tail_level(q)?;

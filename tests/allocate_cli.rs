@@ -302,3 +302,33 @@ fn the_budget_sweep_never_loses_return_as_the_budget_grows() {
         assert!(w[1]["budget_used"].as_f64().unwrap() <= w[1]["budget"].as_f64().unwrap() + 1e-6);
     }
 }
+
+/// A tail-loss limit given in the plan as a share of the budget ("10%" in
+/// the `furrow init` plan) follows `--budget`: 10 % of the new budget, not
+/// of the plan's total. An explicit `--max-tail-loss` still wins.
+#[test]
+fn a_share_limit_follows_the_budget_flag() {
+    let (_t, dir) = project();
+    let plan = std::fs::read_to_string(dir.join("plan.toml")).unwrap();
+    assert!(
+        plan.contains("max_tail_loss = \"10%\""),
+        "the init plan changed"
+    );
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "allocate",
+            "plan.toml",
+            "--scenarios",
+            "300",
+            "--format",
+            "json",
+        ];
+        args.extend_from_slice(extra);
+        json(&furrow(&dir, &args))
+    };
+    let limit = |v: &Value| v["max_tail_loss"].as_f64().expect("a limit");
+    assert!((limit(&run(&["--budget", "5000"])) - 500.0).abs() < 1e-9);
+    assert!((limit(&run(&["--budget", "20000"])) - 2000.0).abs() < 1e-9);
+    let both = run(&["--budget", "20000", "--max-tail-loss", "700"]);
+    assert!((limit(&both) - 700.0).abs() < 1e-9);
+}

@@ -73,8 +73,25 @@ fn actuals_outside_the_horizon_are_refused() {
             "200",
         ],
     );
-    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
-    assert!(stderr(&o).contains("late.csv"));
+    // Bad input (exit 1), named by file and column, with what would do.
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    let e = stderr(&o);
+    assert!(e.contains("late.csv") && e.contains("'month'"), "{e}");
+    assert!(e.contains("must run from the forecast start"), "{e}");
+    assert!(e.contains("found 2030-01 to 2030-01"), "{e}");
+    assert!(o.stdout.is_empty());
+}
+
+/// A missing file is named once with its cause once (the cause is not
+/// repeated after the message that already holds it).
+#[test]
+fn a_missing_file_names_its_cause_once() {
+    let (_t, dir) = project();
+    let o = furrow(&dir, &["check", "absent.toml"]);
+    assert_eq!(o.status.code(), Some(1));
+    let e = stderr(&o);
+    assert!(e.contains("absent.toml"), "{e}");
+    assert_eq!(e.matches("os error 2").count(), 1, "{e}");
 }
 
 #[test]

@@ -373,6 +373,14 @@ const LIMITS: &[Limit] = &[
         case: limit(3, "must_fund_costs.csv", "--max-tail-loss", &["no allocation keeps the tail loss", "the smallest tail loss achievable", "raise --max-tail-loss to at least"]),
     },
     Limit {
+        args: &["allocate", "--returns", "returns.csv", "--costs", "must_fund_costs.csv", "--budget", "50"],
+        case: limit(3, "must_fund_costs.csv", "--budget", &["must-fund minimums cost 100.00 but the budget is 50.00", "raise --budget to at least 100.00"]),
+    },
+    Limit {
+        args: &["allocate", "--returns", "returns.csv", "--costs", "costs.csv", "--budget", "0"],
+        case: limit(2, "", "--budget", &["must be a positive amount", "a budget of 0 funds nothing"]),
+    },
+    Limit {
         args: &["simulate", "plan.toml", "--scenarios", "1000000", "--max-memory", "1", "--quiet"],
         case: limit(1, "", "--max-memory", &["above the limit of 1 MiB", "even the smallest run (100 futures)", "raise --max-memory to at least"]).without(&["--scenarios 0"]),
     },
@@ -589,4 +597,35 @@ fn every_fixture_has_a_case() {
         "the catalogue shrank to {}",
         listed.len()
     );
+}
+
+/// Whole tiers that all cost more than the budget: a valid run that funds
+/// nothing (exit 0), and its explanation says why, with the cheapest cost
+/// and what would work, rather than blaming the tail-loss limit.
+#[test]
+fn whole_tiers_over_the_budget_are_explained() {
+    let (_tmp, dir) = base_project();
+    let o = furrow(
+        &dir,
+        &[
+            "allocate",
+            "--returns",
+            "returns.csv",
+            "--costs",
+            "costs.csv",
+            "--budget",
+            "60",
+            "--whole-tiers",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let out = stdout(&o);
+    for w in [
+        "every tier with a positive expected net return costs more than the budget of 60",
+        "the cheapest, with the tiers it requires, costs 100",
+        "drop --whole-tiers",
+    ] {
+        assert!(out.contains(w), "missing {w:?} in: {out}");
+    }
+    assert!(!out.contains("tail-loss limit of"), "{out}");
 }

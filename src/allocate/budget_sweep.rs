@@ -51,7 +51,9 @@ pub fn budget_sweep(
                 budget_dual: a.budget_dual,
                 allocation: a.allocation,
             }),
-            Err(AllocError::Infeasible { .. } | AllocError::Invalid { .. }) if k + 1 < points => {
+            Err(AllocError::Infeasible { .. } | AllocError::MinimumsOverBudget { .. })
+                if k + 1 < points =>
+            {
                 continue
             }
             Err(e) => return Err(e),

@@ -1,8 +1,9 @@
 //! Errors of the allocation module.
 //!
 //! Each message names the field or option at fault and says what to change.
-//! `Infeasible` is the one the command line maps to exit code 3; every other
-//! variant is a failure (exit code 1).
+//! `Infeasible` and `MinimumsOverBudget` are the ones the command line maps
+//! to exit code 3 (no allocation exists); every other variant is a failure
+//! (exit code 1).
 
 use thiserror::Error;
 
@@ -29,6 +30,19 @@ pub enum AllocError {
         min_tail_loss: f64,
         /// The limit that was asked for.
         limit: f64,
+    },
+
+    /// The must-fund minimums cost more than the budget: no allocation
+    /// exists whatever the tail-loss limit.
+    #[error(
+        "budget: the must-fund minimums cost {cost:.2} but the budget is {budget:.2}; raise \
+         --budget to at least {cost:.2} or lower the minimums (min_fraction)"
+    )]
+    MinimumsOverBudget {
+        /// Cost of the minimums (with the tiers they require).
+        cost: f64,
+        /// The budget.
+        budget: f64,
     },
 
     /// Whole tiers were asked for on an instance too large for branch and bound.

@@ -321,10 +321,10 @@ impl Problem {
         }
         let cost: f64 = eff.iter().zip(&self.costs).map(|(m, c)| m * c).sum();
         if cost > self.budget * (1.0 + 1e-12) {
-            return Err(AllocError::invalid(
-                "budget",
-                format!("the must-fund minimums cost {cost:.2} but the budget is {:.2}; raise --budget or lower the minimums", self.budget),
-            ));
+            return Err(AllocError::MinimumsOverBudget {
+                cost,
+                budget: self.budget,
+            });
         }
         Ok(())
     }

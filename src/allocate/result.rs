@@ -188,7 +188,8 @@ fn tier_binding(p: &Problem, x: &[f64], i: usize, id: &str) -> Option<String> {
 
 fn explain(p: &Problem, means: &[f64], a: &Allocation) -> Vec<String> {
     if a.status == "nothing-funded" {
-        return vec![nothing_reason(p, means), downside_line(a)];
+        let whole = a.whole_tiers_gap.is_some();
+        return vec![nothing_reason(p, means, whole), downside_line(a)];
     }
     let mut out = vec![
         funding_line(p, a),
@@ -263,12 +264,34 @@ fn downside_line(a: &Allocation) -> String {
     )
 }
 
-fn nothing_reason(p: &Problem, means: &[f64]) -> String {
+/// Cost of funding id `i` whole with every tier it requires.
+fn chain_cost(p: &Problem, i: usize) -> f64 {
+    let mut cost = 0.0;
+    let mut at = Some(i);
+    let mut steps = 0;
+    while let Some(j) = at.filter(|_| steps <= p.costs.len()) {
+        cost += p.costs[j];
+        at = p.requires.get(j).copied().flatten();
+        steps += 1;
+    }
+    cost
+}
+
+fn nothing_reason(p: &Problem, means: &[f64], whole: bool) -> String {
     if p.budget == 0.0 {
         return "The budget is zero, so nothing is funded.".to_string();
     }
     if means.iter().all(|&m| m <= 0.0) {
         return "No tier has a positive expected net return over the simulated futures, so funding any of them would lower the expected result.".to_string();
+    }
+    if whole {
+        let cheapest = (0..means.len())
+            .filter(|&i| means[i] > 0.0)
+            .map(|i| chain_cost(p, i))
+            .fold(f64::INFINITY, f64::min);
+        if cheapest > p.budget * (1.0 + 1e-12) {
+            return format!("With whole tiers, every tier with a positive expected net return costs more than the budget of {} (the cheapest, with the tiers it requires, costs {}), so nothing is funded; raise the budget or drop --whole-tiers.", amount(p.budget), amount(cheapest));
+        }
     }
     match p.max_tail_loss {
         Some(l) => format!("Every allocation with a positive expected net return exceeds the tail-loss limit of {}, so nothing is funded.", amount(l)),
