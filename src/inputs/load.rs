@@ -359,6 +359,17 @@ impl Inputs {
     }
 }
 
+/// Actuals must run from the forecast start and end within the horizon
+/// (the months observed so far); adds an issue naming the file otherwise.
+pub fn check_actuals_span(a: &MonthlySeries, start: Month, horizon: usize, issues: &mut Issues) {
+    let end = start.plus(horizon as i32 - 1);
+    if let (Some(f), Some(l)) = (a.first(), a.last()) {
+        if f != start || l > end {
+            issues.add(&a.file, None, Some(("month", 1)), format!("actuals must run from the forecast start {start} and end by {end}; found {f} to {l}"));
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -385,16 +396,5 @@ mod tests {
             defined_at: Default::default(),
         };
         assert_eq!(Inputs::effective_minimums(&c), vec![1.0, 1.0, 1.0, 0.5]);
-    }
-}
-
-/// Actuals must run from the forecast start and end within the horizon
-/// (the months observed so far); adds an issue naming the file otherwise.
-pub fn check_actuals_span(a: &MonthlySeries, start: Month, horizon: usize, issues: &mut Issues) {
-    let end = start.plus(horizon as i32 - 1);
-    if let (Some(f), Some(l)) = (a.first(), a.last()) {
-        if f != start || l > end {
-            issues.add(&a.file, None, Some(("month", 1)), format!("actuals must run from the forecast start {start} and end by {end}; found {f} to {l}"));
-        }
     }
 }
