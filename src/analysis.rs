@@ -94,8 +94,19 @@ pub fn stress_report(
     // Runs a later preset may take clusters from: the base case and every
     // preset whose keyword loop differed from all runs before it.
     let n = s.model.clusters.len();
-    let base_keys = stress::loop_keys(None, n, opts.seed);
-    let mut kept: Vec<(Vec<stress::LoopKey>, f64, crate::simulate::Futures)> = Vec::new();
+    let base_keys: Vec<Option<stress::LoopKey>> = stress::loop_keys(None, n, opts.seed)
+        .into_iter()
+        .map(Some)
+        .collect();
+    // The rows read only the chosen allocation's clusters: the others are
+    // left out of the stressed runs.
+    let mut needed = vec![false; n];
+    for (j, &(c, _)) in s.futures.slots.iter().enumerate() {
+        if fractions.get(j).is_some_and(|&x| x > 0.0) {
+            needed[c] = true;
+        }
+    }
+    let mut kept: Vec<(Vec<Option<stress::LoopKey>>, f64, crate::simulate::Futures)> = Vec::new();
     let mut rows = Vec::new();
     for name in names {
         let preset = load_preset(s, name)?;
@@ -110,7 +121,14 @@ pub fn stress_report(
                 volume_scale: *vs,
                 futures: f,
             }));
-            stress::run_preset_from(&preset, &s.model, &done, Some(&s.baseline_paths), &opts)?
+            stress::run_preset_from(
+                &preset,
+                &s.model,
+                &done,
+                Some(&s.baseline_paths),
+                &opts,
+                Some(&needed),
+            )?
         };
         let c = Case {
             name: &preset.name,
@@ -121,8 +139,14 @@ pub fn stress_report(
             notes: &case.notes,
         };
         rows.push(stress::evaluate(&c, &fractions, level, t.as_ref())?);
-        let keys = stress::loop_keys(Some(&preset), n, opts.seed);
-        let new = (0..n).any(|c| keys[c] != base_keys[c] && kept.iter().all(|k| k.0[c] != keys[c]));
+        let keys: Vec<Option<stress::LoopKey>> = stress::loop_keys(Some(&preset), n, opts.seed)
+            .into_iter()
+            .zip(&case.simulated)
+            .map(|(k, &done)| done.then_some(k))
+            .collect();
+        let new = (0..n).any(|c| {
+            keys[c].is_some() && keys[c] != base_keys[c] && kept.iter().all(|k| k.0[c] != keys[c])
+        });
         if new {
             kept.push((keys, preset.model.volume_scale, case.futures));
         }
@@ -188,11 +212,14 @@ pub fn allocate_under(
         progress: None,
     };
     let done = [stress::Done {
-        keys: stress::loop_keys(None, s.model.clusters.len(), s.inputs.plan.seed),
+        keys: stress::loop_keys(None, s.model.clusters.len(), s.inputs.plan.seed)
+            .into_iter()
+            .map(Some)
+            .collect(),
         volume_scale: 1.0,
         futures: &s.futures,
     }];
-    let case = stress::run_preset_from(&preset, &s.model, &done, None, &run)?;
+    let case = stress::run_preset_from(&preset, &s.model, &done, None, &run, None)?;
     let base = crate::simulate::net_returns(&s.model, &s.futures);
     let stressed = crate::simulate::net_returns(&case.model, &case.futures);
     let mix = stress::mix_returns(&base, &stressed, s.futures.slots.len(), stress_weight)?;

@@ -357,7 +357,10 @@ fn partial_rerun_matches_the_full_rerun() {
     for p in &presets {
         let full = stressed(p);
         let base_done = stress::Done {
-            keys: stress::loop_keys(None, b.model.clusters.len(), SEED),
+            keys: stress::loop_keys(None, b.model.clusters.len(), SEED)
+                .into_iter()
+                .map(Some)
+                .collect(),
             volume_scale: 1.0,
             futures: &b.futures,
         };
@@ -367,6 +370,7 @@ fn partial_rerun_matches_the_full_rerun() {
             &[base_done],
             Some(&b.baseline),
             &options(N, SEED),
+            None,
         )
         .unwrap();
         let f = &full.futures;
@@ -401,20 +405,29 @@ fn partial_rerun_can_reuse_an_earlier_preset() {
     let bad = preset("bad-year");
     let done = [
         stress::Done {
-            keys: stress::loop_keys(None, n, SEED),
+            keys: stress::loop_keys(None, n, SEED)
+                .into_iter()
+                .map(Some)
+                .collect(),
             volume_scale: 1.0,
             futures: &b.futures,
         },
         stress::Done {
-            keys: stress::loop_keys(Some(&slower), n, SEED),
+            keys: stress::loop_keys(Some(&slower), n, SEED)
+                .into_iter()
+                .map(Some)
+                .collect(),
             volume_scale: slower.model.volume_scale,
             futures: &slow_case.futures,
         },
     ];
     let bad_keys = stress::loop_keys(Some(&bad), n, SEED);
-    let shared = (0..n).filter(|&c| bad_keys[c] == done[1].keys[c]).count();
+    let shared = (0..n)
+        .filter(|&c| Some(bad_keys[c]) == done[1].keys[c])
+        .count();
     assert!(shared > 0 && shared < n, "{shared} of {n} clusters shared");
-    let part = stress::run_preset_from(&bad, &b.model, &done, None, &options(N, SEED)).unwrap();
+    let part =
+        stress::run_preset_from(&bad, &b.model, &done, None, &options(N, SEED), None).unwrap();
     let full = stressed(&bad).futures;
     assert_eq!(full.site, part.futures.site);
     assert_eq!(full.execution, part.futures.execution);
@@ -425,4 +438,75 @@ fn partial_rerun_can_reuse_an_earlier_preset() {
         .map(|(a, c)| (*a as f64 - *c as f64).abs() / (*a as f64).abs().max(1e-3))
         .fold(0f64, f64::max);
     assert!(worst < 1e-6, "worst relative gap {worst}");
+}
+
+/// Clusters an allocation does not fund can be left out of a stressed run:
+/// the clusters kept equal the full re-run, the ones left out are zeros and
+/// flagged, and the stress row of an allocation funding only the kept
+/// clusters is the full re-run's row (to rounding).
+#[test]
+fn clusters_left_out_do_not_change_the_row_of_an_allocation_without_them() {
+    let b = base();
+    let n = b.model.clusters.len();
+    let needed: Vec<bool> = (0..n).map(|c| c % 2 == 0).collect();
+    let done = [stress::Done {
+        keys: stress::loop_keys(None, n, SEED)
+            .into_iter()
+            .map(Some)
+            .collect(),
+        volume_scale: 1.0,
+        futures: &b.futures,
+    }];
+    for name in ["slower-gains", "bad-year", "volume-drop"] {
+        let p = preset(name);
+        let full = stressed(&p);
+        let part = stress::run_preset_from(
+            &p,
+            &b.model,
+            &done,
+            Some(&b.baseline),
+            &options(N, SEED),
+            Some(&needed),
+        )
+        .unwrap();
+        assert_eq!(part.simulated, needed, "{name}");
+        let f = &part.futures;
+        let h = f.horizon;
+        let mut x = vec![0.0; f.slots.len()];
+        for (j, &(c, t)) in f.slots.iter().enumerate() {
+            for s in 0..f.scenarios {
+                let got = f.monthly(s, j);
+                let want = full.futures.monthly(s, j);
+                for m in 0..h {
+                    let (g, w) = (got[m] as f64, want[m] as f64);
+                    if needed[c] {
+                        assert!(
+                            (g - w).abs() <= 1e-6 * w.abs().max(1e-3),
+                            "{name} {c} {s} {m}"
+                        );
+                    } else {
+                        assert_eq!(g, 0.0, "{name}: cluster {c} left out");
+                    }
+                }
+            }
+            if needed[c] && t == 0 {
+                x[j] = 0.7;
+            }
+        }
+        let net = |case: &stress::StressedCase| {
+            stress::portfolio_net(&case.model, &case.futures, &x).unwrap()
+        };
+        // Net = revenue - spend: compare on the scale of the revenue, as
+        // the f32 clicks carry a relative rounding of about 1e-7.
+        let spend: f64 = f
+            .slots
+            .iter()
+            .zip(&x)
+            .map(|(&(c, t), v)| v * b.model.clusters[c].tiers[t].cost)
+            .sum();
+        for (a, c) in net(&full).iter().zip(net(&part)) {
+            let scale = 1.0 + a.abs() + spend;
+            assert!((a - c).abs() <= 1e-6 * scale, "{name}: {a} {c}");
+        }
+    }
 }

@@ -198,6 +198,19 @@ pub struct Source<'a> {
     pub volume_ratio: f64,
 }
 
+/// What [`rerun`] does with one cluster.
+#[derive(Clone, Copy)]
+pub enum ClusterRun<'a> {
+    /// Simulate its keywords again.
+    Simulate,
+    /// Copy and rescale its keyword sums from an earlier run.
+    Copy(Source<'a>),
+    /// Leave it out: its clicks are zeros (for a caller that reads only
+    /// other clusters, such as the stress test of an allocation that does
+    /// not fund this one).
+    Skip,
+}
+
 /// The Monte Carlo of `model`, re-running the keyword loop only where it
 /// can differ from earlier runs.
 ///
@@ -205,9 +218,10 @@ pub struct Source<'a> {
 /// cluster whose keyword loop a variant leaves alone gives the same keyword
 /// sums in every future; only the site-wide multipliers (click-through and
 /// volume factors, drawn here from `model`'s own sampler) and the volume
-/// ratio change them. Cluster `c` is copied and rescaled from
-/// `sources[c]` when it is `Some`, and simulated in full when it is `None`;
-/// so is every cluster of a future whose ranking shock differs from the
+/// ratio change them. Cluster `c` is copied and rescaled from its source
+/// ([`ClusterRun::Copy`]), simulated in full ([`ClusterRun::Simulate`]) or
+/// left at zero ([`ClusterRun::Skip`]); a copied cluster is simulated all
+/// the same in every future of a future whose ranking shock differs from the
 /// source's or whose source multiplier is not positive (nothing to rescale
 /// from). The result equals [`run`] on `model` up to the rounding of the
 /// stored f32 values (one or two units in the last place). `site`, when
@@ -217,17 +231,23 @@ pub struct Source<'a> {
 pub fn rerun(
     model: &Model,
     opts: &RunOptions,
-    sources: &[Option<Source>],
+    plan: &[ClusterRun],
     site: Option<&[SiteDraw]>,
 ) -> Result<Futures> {
     check_memory(model, opts.scenarios, opts.max_memory)?;
     let slots = model.slot_index();
     let (h, n, nc) = (model.horizon(), slots.len(), model.clusters.len());
-    let fits = sources.len() == nc
+    let fits = plan.len() == nc
         && site.is_none_or(|v| v.len() == opts.scenarios)
-        && sources.iter().flatten().all(|src| {
-            let f = src.futures;
-            f.scenarios == opts.scenarios && f.horizon == h && f.slots == slots && f.clusters == nc
+        && plan.iter().all(|r| match r {
+            ClusterRun::Copy(src) => {
+                let f = src.futures;
+                f.scenarios == opts.scenarios
+                    && f.horizon == h
+                    && f.slots == slots
+                    && f.clusters == nc
+            }
+            _ => true,
         });
     if !fits {
         return Err(Error::Setting(format!(
@@ -267,7 +287,15 @@ pub fn rerun(
                     let nt = cl.n_tiers();
                     let (at, to) = (slot * h, (slot + nt) * h);
                     slot += nt;
-                    if let Some(src) = sources[c] {
+                    if let ClusterRun::Skip = plan[c] {
+                        out[at..to].fill(0.0);
+                        if let Some(e) = exec_out.get_mut(c) {
+                            let mut rng = substream(opts.seed, domain::CLUSTER, s as u64, c as u64);
+                            *e = model.factors.execution_factor(standard_normal(&mut rng)) as f32;
+                        }
+                        continue;
+                    }
+                    if let ClusterRun::Copy(src) = plan[c] {
                         let old = &src.futures.site[s];
                         let old_scale = old.ctr_factor * old.volume_factor;
                         let ratio = new_scale / old_scale * src.volume_ratio;

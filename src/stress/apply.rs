@@ -199,6 +199,9 @@ pub struct StressedCase {
     pub futures: Futures,
     pub baseline: Option<Vec<f64>>,
     pub notes: Vec<String>,
+    /// Per cluster: whether the futures hold its stressed clicks (false
+    /// for a cluster left out, whose clicks are zeros).
+    pub simulated: Vec<bool>,
 }
 
 /// Applies `preset`, re-runs the Monte Carlo with `opts` (use the base
@@ -218,6 +221,7 @@ pub fn run_preset(
     });
     Ok(StressedCase {
         notes: notes(preset, model, opts.seed),
+        simulated: vec![true; model.clusters.len()],
         model: stressed,
         futures,
         baseline,
@@ -252,12 +256,12 @@ pub fn loop_keys(preset: Option<&StressPreset>, n: usize, seed: u64) -> Vec<Loop
     keys
 }
 
-/// A run a later preset may take clusters from: its keys, the volume
-/// scale it ran with, and its futures. The first is the base case (its
-/// site draws are reused when a preset leaves the factors and the
-/// economics alone).
+/// A run a later preset may take clusters from: its keys (`None` for a
+/// cluster it skipped), the volume scale it ran with, and its futures. The
+/// first is the base case (its site draws are reused when a preset leaves
+/// the factors and the economics alone).
 pub struct Done<'a> {
-    pub keys: Vec<LoopKey>,
+    pub keys: Vec<Option<LoopKey>>,
     pub volume_scale: f64,
     pub futures: &'a Futures,
 }
@@ -267,26 +271,42 @@ pub struct Done<'a> {
 /// (see [`crate::simulate::rerun`]). Same futures as [`run_preset`] up to
 /// the rounding of the stored f32 values; volume, click-through,
 /// conversion and order-value presets re-simulate nothing.
+///
+/// With `needed`, clusters marked false are left out ([`ClusterRun::Skip`]:
+/// zeros in the futures, `simulated` false in the case), for a caller that
+/// reads only the others, such as the stress test of an allocation that
+/// funds none of their tiers.
 pub fn run_preset_from(
     preset: &StressPreset,
     model: &Model,
     done: &[Done],
     baseline: Option<&[f64]>,
     opts: &RunOptions,
+    needed: Option<&[bool]>,
 ) -> crate::Result<StressedCase> {
+    use crate::simulate::{ClusterRun, Source};
     let stressed = apply(preset, model, opts.seed);
     let n = model.clusters.len();
     let keys = loop_keys(Some(preset), n, opts.seed);
     let vs = preset.model.volume_scale;
-    let sources: Vec<Option<crate::simulate::Source>> = (0..n)
+    let plan: Vec<ClusterRun> = (0..n)
         .map(|c| {
+            if needed.is_some_and(|w| !w.get(c).copied().unwrap_or(true)) {
+                return ClusterRun::Skip;
+            }
             done.iter()
-                .find(|d| d.keys.get(c) == Some(&keys[c]) && d.volume_scale > 0.0)
-                .map(|d| crate::simulate::Source {
-                    futures: d.futures,
-                    volume_ratio: vs / d.volume_scale,
+                .find(|d| d.keys.get(c) == Some(&Some(keys[c])) && d.volume_scale > 0.0)
+                .map_or(ClusterRun::Simulate, |d| {
+                    ClusterRun::Copy(Source {
+                        futures: d.futures,
+                        volume_ratio: vs / d.volume_scale,
+                    })
                 })
         })
+        .collect();
+    let simulated = plan
+        .iter()
+        .map(|r| !matches!(r, ClusterRun::Skip))
         .collect();
     // The site draws depend on the factors and the economics only.
     let same_site = stressed.factors == model.factors && stressed.economics == model.economics;
@@ -294,7 +314,7 @@ pub fn run_preset_from(
         .first()
         .filter(|_| same_site)
         .map(|d| d.futures.site.as_slice());
-    let futures = crate::simulate::rerun(&stressed, opts, &sources, site)?;
+    let futures = crate::simulate::rerun(&stressed, opts, &plan, site)?;
     let baseline = baseline.map(|b| {
         let mut v = b.to_vec();
         stress_baseline(preset, &mut v);
@@ -305,5 +325,6 @@ pub fn run_preset_from(
         model: stressed,
         futures,
         baseline,
+        simulated,
     })
 }
