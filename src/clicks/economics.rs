@@ -373,8 +373,18 @@ impl Seasonality {
         } else {
             (ratio_to_mean(values, start), SeasonalityMethod::RatioToMean)
         };
-        let ratios = ratios.ok_or_else(|| short(values.len() + 1))?;
-        normalised(&ratios, method).ok_or_else(|| short(values.len() + 1))
+        // The ratios fail only when a year of the history has no clicks: say
+        // so (this used to ask for one more month, which would not help).
+        let no_clicks = || {
+            ClicksError::Invalid {
+            origin: "seasonality from history".to_string(),
+            key: "clicks".to_string(),
+            found: "0 throughout a year of the history".to_string(),
+            expected: "clicks in every year to measure a seasonal shape; give 12 seasonal indices in the plan (or seasonality = \"none\") instead".to_string(),
+        }
+        };
+        let ratios = ratios.ok_or_else(no_clicks)?;
+        normalised(&ratios, method).ok_or_else(no_clicks)
     }
 
     /// Index of calendar month `month` (1 = January; taken modulo 12, so 0
