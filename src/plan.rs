@@ -533,21 +533,25 @@ impl Plan {
             (&e.conversions, "conversions"),
             (&e.sessions, "sessions"),
             (&e.order_value_spread, "order_value_spread"),
-            (&e.value_per_click, "value_per_click"),
         ] {
             if let Some(v) = v {
                 self.range(issues, v, key, 0.0, f64::MAX, "a non-negative number");
             }
         }
-        if let Some(v) = &e.order_value {
-            self.range(
-                issues,
-                v,
-                "order_value",
-                f64::MIN_POSITIVE,
-                f64::MAX,
-                "a positive amount",
-            );
+        for (v, key) in [
+            (&e.order_value, "order_value"),
+            (&e.value_per_click, "value_per_click"),
+        ] {
+            if let Some(v) = v {
+                self.range(
+                    issues,
+                    v,
+                    key,
+                    f64::MIN_POSITIVE,
+                    f64::MAX,
+                    "a positive amount",
+                );
+            }
         }
         if let (Some(c), Some(s)) = (&e.conversions, &e.sessions) {
             if c.get_ref() > s.get_ref() {

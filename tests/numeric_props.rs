@@ -169,8 +169,7 @@ fn cluster() -> impl Strategy<Value = Cluster> {
 
 fn economics() -> impl Strategy<Value = Economics> {
     prop_oneof![
-        // value_per_click = 0 passes the plan check but the model refuses it
-        // (as an order value of 0): positive values only here.
+        // value_per_click must be positive (the plan check refuses 0).
         (1e-3f64..10.0).prop_map(|value| Economics::PerClick { value }),
         (
             prop_oneof![Just(0.0), Just(1.0), 0.0f64..=1.0],
@@ -218,7 +217,8 @@ fn case() -> impl Strategy<Value = Case> {
             season(),
         ),
         (
-            prop_oneof![Just(0.0), 0.0f64..2e5],
+            // A budget of 0 is refused by the plan check (it funds nothing).
+            prop_oneof![Just(0.01), 0.01f64..2e5],
             0.5f64..0.99,
             proptest::option::of(0.0f64..1e4),
             prop::collection::vec(cluster(), 1..=3),
@@ -391,8 +391,26 @@ fn run_case(c: &Case) -> Result<(), TestCaseError> {
     let tmp = tempfile::tempdir().expect("a temporary folder");
     write_case(tmp.path(), c);
     let plan = tmp.path().join("plan.toml");
-    let inputs = furrow::inputs::load::load(&plan, &Overrides::default())
-        .map_err(|e| TestCaseError::fail(format!("the plan does not load: {e}")))?;
+    let must_fund = c
+        .clusters
+        .iter()
+        .flat_map(|cl| &cl.tiers)
+        .any(|t| t.min_fraction > 0.0);
+    let inputs = match furrow::inputs::load::load(&plan, &Overrides::default()) {
+        Ok(i) => i,
+        // Must-fund minimums that cost more than the budget (or exceed the
+        // cap of a tier below) are refused when the plan is checked.
+        Err(e @ Error::Infeasible(_)) if must_fund => {
+            prop_assert!(e.to_string().contains("must-fund"), "{}", e);
+            return Ok(());
+        }
+        Err(Error::Input(issues))
+            if must_fund && issues.to_string().contains("must be funded at least") =>
+        {
+            return Ok(());
+        }
+        Err(e) => return Err(TestCaseError::fail(format!("the plan does not load: {e}"))),
+    };
     let model = match furrow::simulate::prepare(&inputs) {
         Ok(m) => m,
         // Seasonality from a history with a year of no clicks cannot be
@@ -444,12 +462,11 @@ fn run_case(c: &Case) -> Result<(), TestCaseError> {
         // Must-fund minimums can cost more than the budget, exceed the cap
         // of a tier below, or make the tail-loss limit unreachable; nothing
         // else may stop the allocation.
-        Err(Error::Allocate(e @ (AllocError::Infeasible { .. } | AllocError::Invalid { .. }))) => {
-            let must_fund = c
-                .clusters
-                .iter()
-                .flat_map(|cl| &cl.tiers)
-                .any(|t| t.min_fraction > 0.0);
+        Err(Error::Allocate(
+            e @ (AllocError::Infeasible { .. }
+            | AllocError::Invalid { .. }
+            | AllocError::MinimumsOverBudget { .. }),
+        )) => {
             let about_minimums = match &e {
                 AllocError::Invalid { field, .. } => {
                     field == "budget" || field.starts_with("max_fraction[")

@@ -133,10 +133,6 @@ impl Loader {
         // registers it under the index it is pushed at.
         let (volume, position, difficulty, branded) = (volume?, position?, difficulty?, branded?);
         let cid = self.cluster_id(&cluster);
-        // Only a row that is kept may be recorded as seen: the record is an
-        // index into the kept keywords (a refused row recorded there made a
-        // later duplicate of it index past the end).
-        let (volume, position, difficulty, branded) = (volume?, position?, difficulty?, branded?);
         self.check_duplicate(t, &text, cid)?;
         Some(Keyword {
             text: text.into_boxed_str(),
