@@ -98,26 +98,36 @@ pub fn stress_report(
         .into_iter()
         .map(Some)
         .collect();
-    // The rows read only the chosen allocation's clusters: the others are
-    // left out of the stressed runs.
-    let mut needed = vec![false; n];
-    for (j, &(c, _)) in s.futures.slots.iter().enumerate() {
+    // The rows read only the tiers the chosen allocation funds: the
+    // stressed runs simulate each cluster up to its highest funded tier
+    // and leave out the clusters it does not fund.
+    let mut needed = vec![0usize; n];
+    for (j, &(c, t)) in s.futures.slots.iter().enumerate() {
         if fractions.get(j).is_some_and(|&x| x > 0.0) {
-            needed[c] = true;
+            needed[c] = needed[c].max(t + 1);
         }
     }
-    let mut kept: Vec<(Vec<Option<stress::LoopKey>>, f64, crate::simulate::Futures)> = Vec::new();
+    let all_tiers: Vec<usize> = s.model.clusters.iter().map(|c| c.n_tiers()).collect();
+    type Kept = (
+        Vec<Option<stress::LoopKey>>,
+        Vec<usize>,
+        f64,
+        crate::simulate::Futures,
+    );
+    let mut kept: Vec<Kept> = Vec::new();
     let mut rows = Vec::new();
     for name in names {
         let preset = load_preset(s, name)?;
         let case = {
             let mut done = vec![stress::Done {
                 keys: base_keys.clone(),
+                tiers: all_tiers.clone(),
                 volume_scale: 1.0,
                 futures: &s.futures,
             }];
-            done.extend(kept.iter().map(|(keys, vs, f)| stress::Done {
+            done.extend(kept.iter().map(|(keys, tiers, vs, f)| stress::Done {
                 keys: keys.clone(),
+                tiers: tiers.clone(),
                 volume_scale: *vs,
                 futures: f,
             }));
@@ -142,13 +152,18 @@ pub fn stress_report(
         let keys: Vec<Option<stress::LoopKey>> = stress::loop_keys(Some(&preset), n, opts.seed)
             .into_iter()
             .zip(&case.simulated)
-            .map(|(k, &done)| done.then_some(k))
+            .map(|(k, &held)| (held > 0).then_some(k))
             .collect();
         let new = (0..n).any(|c| {
             keys[c].is_some() && keys[c] != base_keys[c] && kept.iter().all(|k| k.0[c] != keys[c])
         });
         if new {
-            kept.push((keys, preset.model.volume_scale, case.futures));
+            kept.push((
+                keys,
+                case.simulated,
+                preset.model.volume_scale,
+                case.futures,
+            ));
         }
     }
     let head = ReportHead {
@@ -216,6 +231,7 @@ pub fn allocate_under(
             .into_iter()
             .map(Some)
             .collect(),
+        tiers: s.model.clusters.iter().map(|c| c.n_tiers()).collect(),
         volume_scale: 1.0,
         futures: &s.futures,
     }];

@@ -266,13 +266,22 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
     let fractions = s.fractions(&chosen);
     let target = analysis::target_report(&s, &chosen, &best)?;
     let names = analysis::preset_names(&s, &[]);
-    let stress = analysis::stress_report(&s, &chosen, &names, opts.max_memory)?;
-    let drivers = analysis::drivers_report(&s, &chosen)?;
-    let tracking = match &s.inputs.actuals {
-        Some(a) => Some(analysis::track_report(&s, &chosen, a)?),
-        None => None,
-    };
-    let frontier = allocate::frontier(&s.problem(), 11, &solve)?;
+    // The stress runs keep both cores busy only while they simulate; the
+    // drivers, tracking and the frontier's solves fill the gaps.
+    let (stress, rest) = rayon::join(
+        || analysis::stress_report(&s, &chosen, &names, opts.max_memory),
+        || -> Result<_> {
+            let drivers = analysis::drivers_report(&s, &chosen)?;
+            let tracking = match &s.inputs.actuals {
+                Some(a) => Some(analysis::track_report(&s, &chosen, a)?),
+                None => None,
+            };
+            let frontier = allocate::frontier(&s.problem(), 11, &solve)?;
+            Ok((drivers, tracking, frontier))
+        },
+    );
+    let stress = stress?;
+    let (drivers, tracking, frontier) = rest?;
     let net = crate::stress::portfolio_net(&s.model, &s.futures, &fractions)?;
     let inputs_hashed = s
         .inputs

@@ -201,8 +201,9 @@ pub struct Source<'a> {
 /// What [`rerun`] does with one cluster.
 #[derive(Clone, Copy)]
 pub enum ClusterRun<'a> {
-    /// Simulate its keywords again.
-    Simulate,
+    /// Simulate its keywords again: the first `tiers` tiers (the rows of
+    /// the tiers above are zeros; tier t does not depend on them).
+    Simulate { tiers: usize },
     /// Copy and rescale its keyword sums from an earlier run.
     Copy(Source<'a>),
     /// Leave it out: its clicks are zeros (for a caller that reads only
@@ -310,8 +311,13 @@ pub fn rerun(
                             continue;
                         }
                     }
-                    let acc = &mut scratch.acc[..nt * h];
+                    let want = match plan[c] {
+                        ClusterRun::Simulate { tiers } => tiers.min(nt),
+                        _ => nt,
+                    };
+                    let acc = &mut scratch.acc[..want * h];
                     let exec = cluster_sums(model, opts.seed, s, c, &ctx, &mut scratch.kernel, acc);
+                    out[at..to].fill(0.0);
                     for (o, a) in out[at..to].iter_mut().zip(acc.iter()) {
                         *o = (a * new_scale) as f32;
                     }

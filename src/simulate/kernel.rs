@@ -82,7 +82,8 @@ impl KernelScratch {
 }
 
 /// Adds keyword `k`'s incremental clicks for every tier and month to `acc`
-/// (`tiers x horizon`, row per tier, tier gains cumulative).
+/// (`tiers x horizon`, row per tier, tier gains cumulative); a shorter
+/// `acc` computes only the tiers it has rows for.
 #[allow(clippy::too_many_arguments)]
 pub fn add_keyword(
     model: &Model,
@@ -127,7 +128,9 @@ pub fn add_keyword(
     } else {
         0.0
     };
-    for t in 0..c.n_tiers() {
+    // The first `acc.len() / h` tiers (all of them unless the caller needs
+    // fewer: tier t's row does not depend on the tiers above it).
+    for t in 0..c.n_tiers().min(acc.len() / h.max(1)) {
         let d = tier_gain(c, k, t, kw, draws, exec, luck);
         if d == 0.0 {
             continue;

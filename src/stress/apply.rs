@@ -199,9 +199,9 @@ pub struct StressedCase {
     pub futures: Futures,
     pub baseline: Option<Vec<f64>>,
     pub notes: Vec<String>,
-    /// Per cluster: whether the futures hold its stressed clicks (false
-    /// for a cluster left out, whose clicks are zeros).
-    pub simulated: Vec<bool>,
+    /// Per cluster: how many of its tiers (from the first) the futures
+    /// hold stressed clicks for; the rows above are zeros (0: left out).
+    pub simulated: Vec<usize>,
 }
 
 /// Applies `preset`, re-runs the Monte Carlo with `opts` (use the base
@@ -221,7 +221,7 @@ pub fn run_preset(
     });
     Ok(StressedCase {
         notes: notes(preset, model, opts.seed),
-        simulated: vec![true; model.clusters.len()],
+        simulated: model.clusters.iter().map(|c| c.n_tiers()).collect(),
         model: stressed,
         futures,
         baseline,
@@ -257,11 +257,13 @@ pub fn loop_keys(preset: Option<&StressPreset>, n: usize, seed: u64) -> Vec<Loop
 }
 
 /// A run a later preset may take clusters from: its keys (`None` for a
-/// cluster it skipped), the volume scale it ran with, and its futures. The
-/// first is the base case (its site draws are reused when a preset leaves
-/// the factors and the economics alone).
+/// cluster it skipped), the number of tiers it holds per cluster, the
+/// volume scale it ran with, and its futures. The first is the base case
+/// (its site draws are reused when a preset leaves the factors and the
+/// economics alone).
 pub struct Done<'a> {
     pub keys: Vec<Option<LoopKey>>,
+    pub tiers: Vec<usize>,
     pub volume_scale: f64,
     pub futures: &'a Futures,
 }
@@ -272,31 +274,42 @@ pub struct Done<'a> {
 /// the rounding of the stored f32 values; volume, click-through,
 /// conversion and order-value presets re-simulate nothing.
 ///
-/// With `needed`, clusters marked false are left out ([`ClusterRun::Skip`]:
-/// zeros in the futures, `simulated` false in the case), for a caller that
-/// reads only the others, such as the stress test of an allocation that
-/// funds none of their tiers.
+/// With `needed`, cluster `c` gets only its first `needed[c]` tiers (0:
+/// left out, [`ClusterRun::Skip`]); the rows above are zeros and
+/// `simulated` says how many tiers each cluster holds. For a caller that
+/// reads only those, such as the stress test of an allocation that funds
+/// no tier above them (tier t does not depend on the tiers above it).
 pub fn run_preset_from(
     preset: &StressPreset,
     model: &Model,
     done: &[Done],
     baseline: Option<&[f64]>,
     opts: &RunOptions,
-    needed: Option<&[bool]>,
+    needed: Option<&[usize]>,
 ) -> crate::Result<StressedCase> {
     use crate::simulate::{ClusterRun, Source};
     let stressed = apply(preset, model, opts.seed);
     let n = model.clusters.len();
     let keys = loop_keys(Some(preset), n, opts.seed);
     let vs = preset.model.volume_scale;
+    let want: Vec<usize> = (0..n)
+        .map(|c| {
+            let all = model.clusters[c].n_tiers();
+            needed.map_or(all, |w| w.get(c).copied().unwrap_or(all).min(all))
+        })
+        .collect();
     let plan: Vec<ClusterRun> = (0..n)
         .map(|c| {
-            if needed.is_some_and(|w| !w.get(c).copied().unwrap_or(true)) {
+            if want[c] == 0 {
                 return ClusterRun::Skip;
             }
             done.iter()
-                .find(|d| d.keys.get(c) == Some(&Some(keys[c])) && d.volume_scale > 0.0)
-                .map_or(ClusterRun::Simulate, |d| {
+                .find(|d| {
+                    d.keys.get(c) == Some(&Some(keys[c]))
+                        && d.tiers.get(c).is_some_and(|&t| t >= want[c])
+                        && d.volume_scale > 0.0
+                })
+                .map_or(ClusterRun::Simulate { tiers: want[c] }, |d| {
                     ClusterRun::Copy(Source {
                         futures: d.futures,
                         volume_ratio: vs / d.volume_scale,
@@ -304,9 +317,13 @@ pub fn run_preset_from(
                 })
         })
         .collect();
-    let simulated = plan
-        .iter()
-        .map(|r| !matches!(r, ClusterRun::Skip))
+    // A copy holds at least the tiers wanted (counted as just those).
+    let simulated = (0..n)
+        .map(|c| match plan[c] {
+            ClusterRun::Skip => 0,
+            ClusterRun::Simulate { tiers } => tiers,
+            ClusterRun::Copy(_) => want[c],
+        })
         .collect();
     // The site draws depend on the factors and the economics only.
     let same_site = stressed.factors == model.factors && stressed.economics == model.economics;
