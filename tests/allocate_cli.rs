@@ -7,11 +7,6 @@ mod common;
 use common::*;
 use serde_json::Value;
 
-fn json(o: &std::process::Output) -> Value {
-    assert!(o.status.success(), "{}", stderr(o));
-    serde_json::from_slice(&o.stdout).expect("valid JSON")
-}
-
 #[test]
 fn dumped_futures_allocate_exactly_like_the_plan() {
     let (_t, dir) = project();

@@ -3,12 +3,6 @@
 
 mod common;
 use common::*;
-use serde_json::Value;
-
-fn json(o: &std::process::Output) -> Value {
-    assert!(o.status.success(), "{}", stderr(o));
-    serde_json::from_slice(&o.stdout).expect("valid JSON")
-}
 
 #[test]
 fn a_volume_drop_lowers_the_expected_return_of_the_same_allocation() {

@@ -6,12 +6,6 @@
 mod common;
 use common::*;
 use furrow::plan::Overrides;
-use serde_json::Value;
-
-fn json(o: &std::process::Output) -> Value {
-    assert!(o.status.success(), "{}", stderr(o));
-    serde_json::from_slice(&o.stdout).expect("valid JSON")
-}
 
 #[test]
 fn identical_bytes_for_1_2_and_8_threads_and_across_runs() {

@@ -38,3 +38,10 @@ pub fn project() -> (tempfile::TempDir, PathBuf) {
 pub fn write(dir: &Path, name: &str, bytes: &[u8]) {
     std::fs::write(dir.join(name), bytes).expect("write a fixture");
 }
+
+/// The JSON a successful run printed (fails the test, with stderr, when the
+/// run failed or printed something else).
+pub fn json(o: &Output) -> serde_json::Value {
+    assert!(o.status.success(), "{}", stderr(o));
+    serde_json::from_slice(&o.stdout).expect("valid JSON")
+}
