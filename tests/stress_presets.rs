@@ -78,6 +78,21 @@ fn stressed(p: &StressPreset) -> stress::StressedCase {
     stress::run_preset(p, &b.model, Some(&b.baseline), &options(N, SEED)).unwrap()
 }
 
+/// The base run as a source for partial re-runs.
+fn base_done() -> stress::Done<'static> {
+    let b = base();
+    let n = b.model.clusters.len();
+    stress::Done {
+        keys: stress::loop_keys(None, n, SEED)
+            .into_iter()
+            .map(Some)
+            .collect(),
+        tiers: b.model.clusters.iter().map(|c| c.n_tiers()).collect(),
+        volume_scale: 1.0,
+        futures: &b.futures,
+    }
+}
+
 fn funded_clicks(f: &Futures) -> Vec<f64> {
     let x = all_tiers(f);
     target::totals::row_sums(&target::funded_monthly(f, &x).unwrap(), f.horizon)
@@ -356,19 +371,10 @@ fn partial_rerun_matches_the_full_rerun() {
     );
     for p in &presets {
         let full = stressed(p);
-        let base_done = stress::Done {
-            keys: stress::loop_keys(None, b.model.clusters.len(), SEED)
-                .into_iter()
-                .map(Some)
-                .collect(),
-            tiers: b.model.clusters.iter().map(|c| c.n_tiers()).collect(),
-            volume_scale: 1.0,
-            futures: &b.futures,
-        };
         let part = stress::run_preset_from(
             p,
             &b.model,
-            &[base_done],
+            &[base_done()],
             Some(&b.baseline),
             &options(N, SEED),
             None,
@@ -405,15 +411,7 @@ fn partial_rerun_can_reuse_an_earlier_preset() {
     let slow_case = stressed(&slower);
     let bad = preset("bad-year");
     let done = [
-        stress::Done {
-            keys: stress::loop_keys(None, n, SEED)
-                .into_iter()
-                .map(Some)
-                .collect(),
-            tiers: b.model.clusters.iter().map(|c| c.n_tiers()).collect(),
-            volume_scale: 1.0,
-            futures: &b.futures,
-        },
+        base_done(),
         stress::Done {
             keys: stress::loop_keys(Some(&slower), n, SEED)
                 .into_iter()
@@ -453,15 +451,7 @@ fn a_stressed_run_can_stop_at_the_funded_tiers() {
     let b = base();
     let n = b.model.clusters.len();
     let needed: Vec<usize> = (0..n).map(|c| c % 3).collect();
-    let done = [stress::Done {
-        keys: stress::loop_keys(None, n, SEED)
-            .into_iter()
-            .map(Some)
-            .collect(),
-        tiers: b.model.clusters.iter().map(|c| c.n_tiers()).collect(),
-        volume_scale: 1.0,
-        futures: &b.futures,
-    }];
+    let done = [base_done()];
     // slower-gains and bad-year re-simulate; volume-drop copies.
     for name in ["slower-gains", "bad-year", "volume-drop"] {
         let p = preset(name);

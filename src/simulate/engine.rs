@@ -121,6 +121,21 @@ struct Scratch {
 /// Runs the Monte Carlo.
 pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
     check_memory(model, opts.scenarios, opts.max_memory)?;
+    let site = draw_sites(model, opts)?;
+    Ok(drive(model, opts, site, |sc, s, site, out, exec_out| {
+        one_future(model, opts.seed, s, site, sc, out, exec_out)
+    }))
+}
+
+/// Runs `one` on every future in parallel, each with its worker's scratch,
+/// its site draw and its rows of the result matrices, reporting progress;
+/// collects the futures.
+fn drive(
+    model: &Model,
+    opts: &RunOptions,
+    site: Vec<SiteDraw>,
+    one: impl Fn(&mut Scratch, usize, &SiteDraw, &mut [f32], &mut [f32]) + Sync,
+) -> Futures {
     let slots = model.slot_index();
     let (h, n, nc) = (model.horizon(), slots.len(), model.clusters.len());
     let max_tiers = model
@@ -131,11 +146,9 @@ pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
         .unwrap_or(0);
     let mut clicks = vec![0f32; opts.scenarios * n * h];
     let mut execution = vec![0f32; opts.scenarios * nc];
-    let site = draw_sites(model, opts)?;
     let done = std::sync::atomic::AtomicUsize::new(0);
-    let chunk = (n * h).max(1);
     clicks
-        .par_chunks_mut(chunk)
+        .par_chunks_mut((n * h).max(1))
         .zip(execution.par_chunks_mut(nc.max(1)))
         .enumerate()
         .for_each_init(
@@ -144,7 +157,7 @@ pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
                 acc: vec![0.0; max_tiers * h],
             },
             |scratch, (s, (out, exec_out))| {
-                one_future(model, opts.seed, s, &site[s], scratch, out, exec_out);
+                one(scratch, s, &site[s], out, exec_out);
                 if let Some(p) = opts.progress {
                     let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
                     if d.is_multiple_of(256) || d == opts.scenarios {
@@ -153,7 +166,7 @@ pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
                 }
             },
         );
-    Ok(Futures {
+    Futures {
         scenarios: opts.scenarios,
         horizon: h,
         slots,
@@ -161,7 +174,7 @@ pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
         site,
         execution,
         clusters: nc,
-    })
+    }
 }
 
 /// Every future's site-wide draws, from stream (seed, SITE, s).
@@ -256,96 +269,73 @@ pub fn rerun(
             opts.scenarios, n, h
         )));
     }
-    let max_tiers = model
-        .clusters
-        .iter()
-        .map(|c| c.n_tiers())
-        .max()
-        .unwrap_or(0);
     let site = match site {
         Some(v) => v.to_vec(),
         None => draw_sites(model, opts)?,
     };
-    let mut clicks = vec![0f32; opts.scenarios * n * h];
-    let mut execution = vec![0f32; opts.scenarios * nc];
-    let chunk = (n * h).max(1);
-    let done = std::sync::atomic::AtomicUsize::new(0);
-    clicks
-        .par_chunks_mut(chunk)
-        .zip(execution.par_chunks_mut(nc.max(1)))
-        .enumerate()
-        .for_each_init(
-            || Scratch {
-                kernel: KernelScratch::new(h),
-                acc: vec![0.0; max_tiers * h],
-            },
-            |scratch, (s, (out, exec_out))| {
-                let new = &site[s];
-                let new_scale = new.ctr_factor * new.volume_factor;
-                let ctx = FutureContext::new(new, h);
-                let mut slot = 0;
-                for (c, cl) in model.clusters.iter().enumerate() {
-                    let nt = cl.n_tiers();
-                    let (at, to) = (slot * h, (slot + nt) * h);
-                    slot += nt;
-                    if let ClusterRun::Skip = plan[c] {
-                        out[at..to].fill(0.0);
-                        if let Some(e) = exec_out.get_mut(c) {
-                            let mut rng = substream(opts.seed, domain::CLUSTER, s as u64, c as u64);
-                            *e = model.factors.execution_factor(standard_normal(&mut rng)) as f32;
-                        }
-                        continue;
-                    }
-                    if let ClusterRun::Copy(src) = plan[c] {
-                        let old = &src.futures.site[s];
-                        let old_scale = old.ctr_factor * old.volume_factor;
-                        let ratio = new_scale / old_scale * src.volume_ratio;
-                        if old_scale > 0.0 && ratio.is_finite() && same_shock(old, new) {
-                            let from = &src.futures.clicks[s * chunk + at..s * chunk + to];
-                            for (o, &b) in out[at..to].iter_mut().zip(from) {
-                                *o = (b as f64 * ratio) as f32;
-                            }
-                            if let Some(e) = exec_out.get_mut(c) {
-                                *e = src.futures.execution[s * nc + c];
-                            }
-                            continue;
-                        }
-                    }
-                    let want = match plan[c] {
-                        ClusterRun::Simulate { tiers } => tiers.min(nt),
-                        _ => nt,
-                    };
-                    let acc = &mut scratch.acc[..want * h];
-                    let exec = cluster_sums(model, opts.seed, s, c, &ctx, &mut scratch.kernel, acc);
-                    out[at..to].fill(0.0);
-                    for (o, a) in out[at..to].iter_mut().zip(acc.iter()) {
-                        *o = (a * new_scale) as f32;
+    Ok(drive(model, opts, site, |sc, s, site, out, exec_out| {
+        rerun_future(model, opts.seed, plan, s, site, sc, out, exec_out)
+    }))
+}
+
+/// One future of [`rerun`].
+#[allow(clippy::too_many_arguments)]
+fn rerun_future(
+    model: &Model,
+    seed: u64,
+    plan: &[ClusterRun],
+    s: usize,
+    new: &SiteDraw,
+    scratch: &mut Scratch,
+    out: &mut [f32],
+    exec_out: &mut [f32],
+) {
+    let h = model.horizon();
+    let (chunk, nc) = (out.len(), model.clusters.len());
+    let new_scale = new.ctr_factor * new.volume_factor;
+    let ctx = FutureContext::new(new, h);
+    let mut slot = 0;
+    for (c, cl) in model.clusters.iter().enumerate() {
+        let nt = cl.n_tiers();
+        let (at, to) = (slot * h, (slot + nt) * h);
+        slot += nt;
+        let want = match plan[c] {
+            ClusterRun::Skip => 0,
+            ClusterRun::Simulate { tiers } => tiers.min(nt),
+            ClusterRun::Copy(src) => {
+                let old = &src.futures.site[s];
+                let old_scale = old.ctr_factor * old.volume_factor;
+                let ratio = new_scale / old_scale * src.volume_ratio;
+                if old_scale > 0.0 && ratio.is_finite() && same_shock(old, new) {
+                    let from = &src.futures.clicks[s * chunk + at..s * chunk + to];
+                    for (o, &b) in out[at..to].iter_mut().zip(from) {
+                        *o = (b as f64 * ratio) as f32;
                     }
                     if let Some(e) = exec_out.get_mut(c) {
-                        *e = exec as f32;
+                        *e = src.futures.execution[s * nc + c];
                     }
+                    continue;
                 }
-                if let Some(p) = opts.progress {
-                    let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-                    if d.is_multiple_of(256) || d == opts.scenarios {
-                        p(d);
-                    }
-                }
-            },
-        );
-    Ok(Futures {
-        scenarios: opts.scenarios,
-        horizon: h,
-        slots,
-        clicks,
-        site,
-        execution,
-        clusters: nc,
-    })
+                nt
+            }
+        };
+        // A left-out cluster is zeros with its execution factor drawn
+        // (the kernel's loop over no tiers).
+        let acc = &mut scratch.acc[..want * h];
+        let exec = cluster_sums(model, seed, s, c, &ctx, &mut scratch.kernel, acc);
+        out[at..to].fill(0.0);
+        for (o, a) in out[at..to].iter_mut().zip(acc.iter()) {
+            *o = (a * new_scale) as f32;
+        }
+        if let Some(e) = exec_out.get_mut(c) {
+            *e = exec as f32;
+        }
+    }
 }
 
 /// Cluster `c`'s keyword sums in future `s` (before the site-wide
-/// multipliers) into `acc` (`tiers x horizon`); returns the execution factor.
+/// multipliers) into `acc` (`tiers x horizon`, as many tiers as it has
+/// rows for; none skips the keywords); returns the execution factor.
 fn cluster_sums(
     model: &Model,
     seed: u64,
@@ -359,6 +349,9 @@ fn cluster_sums(
     let mut rng = substream(seed, domain::CLUSTER, s as u64, c as u64);
     let exec = model.factors.execution_factor(standard_normal(&mut rng));
     acc.fill(0.0);
+    if acc.is_empty() {
+        return exec;
+    }
     for k in 0..cl.keywords.len() {
         let draws = KeywordDraws::draw(&mut rng);
         add_keyword(model, cl, k, &draws, exec, ctx, kernel, acc);

@@ -158,6 +158,13 @@ pub fn stress_baseline(preset: &StressPreset, paths: &mut [f64]) {
     }
 }
 
+/// A copy of baseline paths under `preset`.
+fn stressed_copy(preset: &StressPreset, paths: &[f64]) -> Vec<f64> {
+    let mut v = paths.to_vec();
+    stress_baseline(preset, &mut v);
+    v
+}
+
 /// What a preset did that the numbers alone do not show.
 pub fn notes(preset: &StressPreset, model: &Model, seed: u64) -> Vec<String> {
     let hit = shocked_clusters(preset, model.clusters.len(), seed);
@@ -214,11 +221,7 @@ pub fn run_preset(
 ) -> crate::Result<StressedCase> {
     let stressed = apply(preset, model, opts.seed);
     let futures = crate::simulate::run(&stressed, opts)?;
-    let baseline = baseline.map(|b| {
-        let mut v = b.to_vec();
-        stress_baseline(preset, &mut v);
-        v
-    });
+    let baseline = baseline.map(|b| stressed_copy(preset, b));
     Ok(StressedCase {
         notes: notes(preset, model, opts.seed),
         simulated: model.clusters.iter().map(|c| c.n_tiers()).collect(),
@@ -332,11 +335,7 @@ pub fn run_preset_from(
         .filter(|_| same_site)
         .map(|d| d.futures.site.as_slice());
     let futures = crate::simulate::rerun(&stressed, opts, &plan, site)?;
-    let baseline = baseline.map(|b| {
-        let mut v = b.to_vec();
-        stress_baseline(preset, &mut v);
-        v
-    });
+    let baseline = baseline.map(|b| stressed_copy(preset, b));
     Ok(StressedCase {
         notes: notes(preset, model, opts.seed),
         model: stressed,
