@@ -7,7 +7,7 @@ use super::error::AllocError;
 use super::problem::Problem;
 use super::result::Item;
 use super::solve::{solve, SolveOptions};
-use crate::output::{num, Render, Rows};
+use crate::output::{Render, Rows};
 use crate::text::{money, table, Align::*};
 use serde::Serialize;
 
@@ -107,38 +107,27 @@ impl Render for BudgetSweepOutput {
     }
 
     fn rows(&self) -> Rows {
-        let ids: Vec<String> = self
-            .points
-            .first()
-            .map(|p| p.allocation.iter().map(|i| i.id.clone()).collect())
-            .unwrap_or_default();
-        let mut header: Vec<String> = [
-            "budget",
-            "budget_used",
-            "expected_net_return",
-            "tail_loss",
-            "value_at_risk",
-            "budget_dual",
-        ]
-        .map(String::from)
-        .to_vec();
-        header.extend(ids.iter().map(|i| format!("fraction:{i}")));
-        let rows = self
-            .points
-            .iter()
-            .map(|p| {
-                let mut v = vec![
-                    num(p.budget),
-                    num(p.budget_used),
-                    num(p.expected_net_return),
-                    num(p.tail_loss),
-                    num(p.value_at_risk),
-                    num(p.budget_dual),
+        super::output::sweep_rows(
+            &self.points,
+            &[
+                "budget",
+                "budget_used",
+                "expected_net_return",
+                "tail_loss",
+                "value_at_risk",
+                "budget_dual",
+            ],
+            |p| {
+                let figures = vec![
+                    p.budget,
+                    p.budget_used,
+                    p.expected_net_return,
+                    p.tail_loss,
+                    p.value_at_risk,
+                    p.budget_dual,
                 ];
-                v.extend(p.allocation.iter().map(|i| num(i.fraction)));
-                v
-            })
-            .collect();
-        Rows { header, rows }
+                (figures, &p.allocation)
+            },
+        )
     }
 }

@@ -140,36 +140,51 @@ impl Render for FrontierOutput {
     }
 
     fn rows(&self) -> Rows {
-        let ids: Vec<String> = self
-            .points
-            .first()
-            .map(|p| p.allocation.iter().map(|i| i.id.clone()).collect())
-            .unwrap_or_default();
-        let mut header: Vec<String> = [
-            "max_tail_loss",
-            "expected_net_return",
-            "tail_loss",
-            "value_at_risk",
-            "budget_used",
-        ]
-        .map(String::from)
-        .to_vec();
-        header.extend(ids.iter().map(|i| format!("fraction:{i}")));
-        let rows = self
-            .points
-            .iter()
-            .map(|p| {
-                let mut v = vec![
-                    num(p.max_tail_loss),
-                    num(p.expected_net_return),
-                    num(p.tail_loss),
-                    num(p.value_at_risk),
-                    num(p.budget_used),
+        sweep_rows(
+            &self.points,
+            &[
+                "max_tail_loss",
+                "expected_net_return",
+                "tail_loss",
+                "value_at_risk",
+                "budget_used",
+            ],
+            |p| {
+                let figures = vec![
+                    p.max_tail_loss,
+                    p.expected_net_return,
+                    p.tail_loss,
+                    p.value_at_risk,
+                    p.budget_used,
                 ];
-                v.extend(p.allocation.iter().map(|i| num(i.fraction)));
-                v
-            })
-            .collect();
-        Rows { header, rows }
+                (figures, &p.allocation)
+            },
+        )
     }
+}
+
+/// The CSV rows of a sweep (the frontier over the tail-loss limit or over
+/// the budget): the point's figures under `head`, then one
+/// `fraction:<id>` column per id of the first point's allocation.
+pub(crate) fn sweep_rows<P>(
+    points: &[P],
+    head: &[&str],
+    row: impl Fn(&P) -> (Vec<f64>, &Vec<super::result::Item>),
+) -> Rows {
+    let ids: Vec<String> = points
+        .first()
+        .map(|p| row(p).1.iter().map(|i| i.id.clone()).collect())
+        .unwrap_or_default();
+    let mut header: Vec<String> = head.iter().map(|h| h.to_string()).collect();
+    header.extend(ids.iter().map(|i| format!("fraction:{i}")));
+    let rows = points
+        .iter()
+        .map(|p| {
+            let (figures, allocation) = row(p);
+            let mut v: Vec<String> = figures.into_iter().map(num).collect();
+            v.extend(allocation.iter().map(|i| num(i.fraction)));
+            v
+        })
+        .collect();
+    Rows { header, rows }
 }
