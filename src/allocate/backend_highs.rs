@@ -5,12 +5,9 @@
 //! no meaning). Integer columns (whole tiers) go to HiGHS's branch and cut.
 //! Only a proven optimum is accepted.
 
-use super::good_lp_model::{constraint, definition, map_resolution_error};
-use super::lp::{LinearProgram, LpFailure, LpSolution, Sense};
-use good_lp::{
-    DualValues, Expression, ProblemVariables, Solution, SolutionStatus, SolutionWithDual,
-    SolverModel, Variable,
-};
+use super::good_lp_model::{constraint, map_resolution_error, optimal_values, unsolved};
+use super::lp::{LinearProgram, LpFailure, LpSolution};
+use good_lp::{DualValues, SolutionWithDual, SolverModel};
 use std::time::Duration;
 
 /// Solves `lp` with HiGHS.
@@ -18,16 +15,7 @@ pub(crate) fn solve(
     lp: &LinearProgram,
     time_limit: Option<Duration>,
 ) -> Result<LpSolution, LpFailure> {
-    let mut vars = ProblemVariables::new();
-    let handles: Vec<Variable> = lp.columns.iter().map(|c| vars.add(definition(c))).collect();
-    let mut objective = Expression::with_capacity(handles.len());
-    for (c, &h) in lp.columns.iter().zip(&handles) {
-        objective.add_mul(c.objective, h);
-    }
-    let unsolved = match lp.sense {
-        Sense::Maximize => vars.maximise(objective),
-        Sense::Minimize => vars.minimise(objective),
-    };
+    let (unsolved, handles) = unsolved(lp);
     let mut model = unsolved.using(good_lp::highs);
     if let Some(t) = time_limit {
         model = model.set_time_limit(t.as_secs_f64());
@@ -38,10 +26,7 @@ pub(crate) fn solve(
         .map(|r| model.add_constraint(constraint(r, &handles)))
         .collect();
     let mut solution = model.solve().map_err(map_resolution_error)?;
-    if !matches!(solution.status(), SolutionStatus::Optimal) {
-        return Err(LpFailure::NotOptimal(format!("{:?}", solution.status())));
-    }
-    let values: Vec<f64> = handles.iter().map(|&h| solution.value(h)).collect();
+    let values = optimal_values(&solution, &handles)?;
     let objective = lp.objective_at(&values);
     let duals = solution.compute_dual();
     let row_duals = refs.into_iter().map(|r| duals.dual(r)).collect();
@@ -54,7 +39,7 @@ pub(crate) fn solve(
 
 #[cfg(test)]
 mod tests {
-    use super::super::lp::{solve_lp, Backend, RowOp};
+    use super::super::lp::{solve_lp, Backend, RowOp, Sense};
     use super::*;
 
     /// Wyndor Glass Co., Hillier & Lieberman, *Introduction to Operations

@@ -7,11 +7,9 @@
 //! which good_lp's adapter cannot do. Only a proven optimum is accepted; a
 //! time limit, gap or node limit is a failure.
 
-use super::good_lp_model::{constraint, definition, map_resolution_error};
+use super::good_lp_model::{constraint, map_resolution_error, optimal_values, unsolved};
 use super::lp::{LinearProgram, LpFailure, LpSolution, Row, RowOp, Sense};
-use good_lp::{
-    Expression, ProblemVariables, Solution, SolutionStatus, SolverModel, Variable, WithTimeLimit,
-};
+use good_lp::{SolverModel, WithTimeLimit};
 use microlp::{ComparisonOp, LinearExpr, OptimizationDirection, SolveOutcome};
 use std::time::Duration;
 
@@ -20,16 +18,7 @@ pub(crate) fn solve(
     lp: &LinearProgram,
     time_limit: Option<Duration>,
 ) -> Result<LpSolution, LpFailure> {
-    let mut vars = ProblemVariables::new();
-    let handles: Vec<Variable> = lp.columns.iter().map(|c| vars.add(definition(c))).collect();
-    let mut objective = Expression::with_capacity(handles.len());
-    for (c, &h) in lp.columns.iter().zip(&handles) {
-        objective.add_mul(c.objective, h);
-    }
-    let unsolved = match lp.sense {
-        Sense::Maximize => vars.maximise(objective),
-        Sense::Minimize => vars.minimise(objective),
-    };
+    let (unsolved, handles) = unsolved(lp);
     let mut model = unsolved.using(good_lp::microlp);
     if let Some(t) = time_limit {
         model = model.with_time_limit(t.as_secs_f64());
@@ -38,10 +27,7 @@ pub(crate) fn solve(
         model.add_constraint(constraint(row, &handles));
     }
     let solution = model.solve().map_err(map_resolution_error)?;
-    if !matches!(solution.status(), SolutionStatus::Optimal) {
-        return Err(LpFailure::NotOptimal(format!("{:?}", solution.status())));
-    }
-    let values: Vec<f64> = handles.iter().map(|&h| solution.value(h)).collect();
+    let values = optimal_values(&solution, &handles)?;
     let objective = lp.objective_at(&values);
     Ok(LpSolution {
         values,

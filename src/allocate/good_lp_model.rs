@@ -1,8 +1,11 @@
 //! Translation of a `LinearProgram` into good_lp's modelling types, shared by
 //! the backends that go through good_lp.
 
-use super::lp::{Column, LpFailure, Row, RowOp};
-use good_lp::{variable, Expression, ResolutionError, Variable};
+use super::lp::{Column, LinearProgram, LpFailure, Row, RowOp, Sense};
+use good_lp::variable::UnsolvedProblem;
+use good_lp::{
+    variable, Expression, ProblemVariables, ResolutionError, Solution, SolutionStatus, Variable,
+};
 
 pub(crate) fn definition(c: &Column) -> good_lp::VariableDefinition {
     let (lo, hi) = c.active_bounds();
@@ -35,4 +38,31 @@ pub(crate) fn map_resolution_error(e: ResolutionError) -> LpFailure {
         }
         other => LpFailure::Failed(other.to_string()),
     }
+}
+
+/// The program's columns and objective as good_lp variables (rows are added
+/// by the backend, which may keep their handles).
+pub(crate) fn unsolved(lp: &LinearProgram) -> (UnsolvedProblem, Vec<Variable>) {
+    let mut vars = ProblemVariables::new();
+    let handles: Vec<Variable> = lp.columns.iter().map(|c| vars.add(definition(c))).collect();
+    let mut objective = Expression::with_capacity(handles.len());
+    for (c, &h) in lp.columns.iter().zip(&handles) {
+        objective.add_mul(c.objective, h);
+    }
+    let problem = match lp.sense {
+        Sense::Maximize => vars.maximise(objective),
+        Sense::Minimize => vars.minimise(objective),
+    };
+    (problem, handles)
+}
+
+/// The column values of a proven optimum; any other status is a failure.
+pub(crate) fn optimal_values(
+    solution: &impl Solution,
+    handles: &[Variable],
+) -> Result<Vec<f64>, LpFailure> {
+    if !matches!(solution.status(), SolutionStatus::Optimal) {
+        return Err(LpFailure::NotOptimal(format!("{:?}", solution.status())));
+    }
+    Ok(handles.iter().map(|&h| solution.value(h)).collect())
 }
