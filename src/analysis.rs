@@ -4,7 +4,7 @@
 //! tracking against actuals. Composes the `target`, `stress`, `drivers` and
 //! `track` modules on one simulation, so every command and the report agree.
 
-use crate::allocate::{self, Allocation, SolveOptions};
+use crate::allocate::{self, Allocation, Problem, SolveOptions};
 use crate::drivers::{self, DriverReport};
 use crate::error::Result;
 use crate::model_files;
@@ -19,9 +19,10 @@ pub fn target(s: &Simulated) -> Result<Option<Target>> {
     Ok(Target::from_inputs(&s.inputs, &s.model)?)
 }
 
-/// The unconstrained best expected-return allocation (no tail-loss limit).
-pub fn best_allocation(s: &Simulated, opts: &SolveOptions) -> Result<Allocation> {
-    let mut p = s.problem();
+/// The unconstrained best expected-return allocation of the plan's
+/// problem `p` (`Simulated::problem`) without its tail-loss limit.
+pub fn best_allocation(p: &Problem, opts: &SolveOptions) -> Result<Allocation> {
+    let mut p = p.clone();
     p.max_tail_loss = None;
     Ok(allocate::solve(&p, opts)?)
 }

@@ -235,8 +235,8 @@ fn check_tail(ctr: &[f64], tail: &[[f64; 2]], origin: &str) -> Result<(), Clicks
     Ok(())
 }
 
-/// Whether the processor supports AVX2 (checked once per table).
-fn has_avx2() -> bool {
+/// Whether the processor supports AVX2 (the standard library caches the answer).
+pub(crate) fn has_avx2() -> bool {
     #[cfg(target_arch = "x86_64")]
     {
         std::arch::is_x86_feature_detected!("avx2")

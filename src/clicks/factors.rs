@@ -152,6 +152,54 @@ impl SiteSampler {
         self.expected
     }
 
+    /// [`SiteSampler::draw`] of the same stream, taking each factor whose
+    /// distribution equals `earlier`'s from `before`, that sampler's draw of
+    /// the same stream (the stream is read in full all the same, so the
+    /// result has the same bits as `draw`). A stress preset that changes
+    /// only the click-through factor then does not invert the conversion
+    /// rate's Beta CDF again.
+    pub fn draw_reusing(
+        &self,
+        rng: &mut Stream,
+        earlier: &SiteSampler,
+        before: &SiteDraw,
+    ) -> SiteDraw {
+        let shock = uniform(rng) < self.shock_probability;
+        let shock_month_share = uniform(rng);
+        let (z_ctr, z_volume) = (standard_normal(rng), standard_normal(rng));
+        let u_conversion = uniform(rng);
+        let z_order = standard_normal(rng);
+        let ctr_factor = if self.ctr == earlier.ctr {
+            before.ctr_factor
+        } else {
+            self.ctr.at(z_ctr)
+        };
+        let volume_factor = if self.volume == earlier.volume {
+            before.volume_factor
+        } else {
+            self.volume.at(z_volume)
+        };
+        let conversion_rate = if self.conversion == earlier.conversion {
+            before.conversion_rate
+        } else {
+            self.conversion.quantile(u_conversion)
+        };
+        let order_value = if self.order_value == earlier.order_value {
+            before.order_value
+        } else {
+            self.order_value.at(z_order)
+        };
+        SiteDraw {
+            shock,
+            shock_log_loss: if shock { self.shock_log_loss } else { 0.0 },
+            shock_month_share,
+            ctr_factor,
+            volume_factor,
+            conversion_rate,
+            order_value,
+        }
+    }
+
     /// Draws one future's factors, always six draws in this order: shock,
     /// shock month, CTR, volume, conversion rate (by inverse CDF), order
     /// value.

@@ -245,6 +245,19 @@ fn decision(
     text
 }
 
+/// The answers computed beside the stress runs.
+struct Answers {
+    best: crate::allocate::Allocation,
+    target: Option<crate::target::TargetReport>,
+    drivers: crate::drivers::DriverReport,
+    tracking: Option<crate::track::TrackReport>,
+    frontier: Vec<crate::allocate::FrontierPoint>,
+    net: Vec<f64>,
+    forecast: Vec<ForecastRow>,
+    clusters: crate::simulate::SimSummary,
+    inputs: Vec<InputHash>,
+}
+
 /// Runs the whole job and writes the report folder.
 pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
     let started = Instant::now();
@@ -261,40 +274,68 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
         },
     )?;
     let solve = SolveOptions::default();
-    let chosen = s.allocate(&solve)?;
-    let best = analysis::best_allocation(&s, &solve)?;
+    let problem = s.problem();
+    let chosen = allocate::solve(&problem, &solve)?;
     let fractions = s.fractions(&chosen);
-    let target = analysis::target_report(&s, &chosen, &best)?;
     let names = analysis::preset_names(&s, &[]);
     // The stress runs keep both cores busy only while they simulate; the
-    // drivers, tracking and the frontier's solves fill the gaps.
+    // other answers (each reading the same futures) fill the gaps.
     let (stress, rest) = rayon::join(
         || analysis::stress_report(&s, &chosen, &names, opts.max_memory),
         || -> Result<_> {
+            let best = analysis::best_allocation(&problem, &solve)?;
+            let target = analysis::target_report(&s, &chosen, &best)?;
             let drivers = analysis::drivers_report(&s, &chosen)?;
             let tracking = match &s.inputs.actuals {
                 Some(a) => Some(analysis::track_report(&s, &chosen, a)?),
                 None => None,
             };
-            let frontier = allocate::frontier(&s.problem(), 11, &solve)?;
-            Ok((drivers, tracking, frontier))
+            let frontier = allocate::frontier(&problem, 11, &solve)?;
+            let net = crate::stress::portfolio_net(&s.model, &s.futures, &fractions)?;
+            let forecast = forecast_rows(&s, &fractions)?;
+            let clusters = summarise_futures(
+                &s.model,
+                &s.futures,
+                s.inputs.plan.seed,
+                &s.inputs.plan.currency,
+            );
+            let inputs = s
+                .inputs
+                .files
+                .iter()
+                .map(|(label, p)| {
+                    Ok(InputHash {
+                        label: label.clone(),
+                        path: p.display().to_string(),
+                        sha256: hash_file(p)?,
+                    })
+                })
+                .collect::<Result<Vec<_>>>()?;
+            Ok(Answers {
+                best,
+                target,
+                drivers,
+                tracking,
+                frontier,
+                net,
+                forecast,
+                clusters,
+                inputs,
+            })
         },
     );
     let stress = stress?;
-    let (drivers, tracking, frontier) = rest?;
-    let net = crate::stress::portfolio_net(&s.model, &s.futures, &fractions)?;
-    let inputs_hashed = s
-        .inputs
-        .files
-        .iter()
-        .map(|(label, p)| {
-            Ok(InputHash {
-                label: label.clone(),
-                path: p.display().to_string(),
-                sha256: hash_file(p)?,
-            })
-        })
-        .collect::<Result<Vec<_>>>()?;
+    let Answers {
+        best,
+        target,
+        drivers,
+        tracking,
+        frontier,
+        net,
+        forecast,
+        clusters,
+        inputs: inputs_hashed,
+    } = rest?;
     let summary = Summary {
         plan: s.inputs.plan.name.clone(),
         currency: s.inputs.plan.currency.clone(),
@@ -302,13 +343,8 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
         cautions: CAUTIONS.iter().map(|c| c.to_string()).collect(),
         check,
         baseline: s.baseline.output.clone(),
-        forecast: forecast_rows(&s, &fractions)?,
-        clusters: summarise_futures(
-            &s.model,
-            &s.futures,
-            s.inputs.plan.seed,
-            &s.inputs.plan.currency,
-        ),
+        forecast,
+        clusters,
         allocation: chosen,
         best_expected_return: best,
         target,

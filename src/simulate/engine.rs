@@ -12,7 +12,7 @@
 use super::kernel::{add_keyword, FutureContext, KernelScratch};
 use super::model::Model;
 use crate::clicks::sampling::standard_normal;
-use crate::clicks::{KeywordDraws, SiteDraw};
+use crate::clicks::{KeywordDraws, SiteDraw, SiteSampler};
 use crate::error::{Error, Result};
 use crate::rng::{domain, stream, substream};
 use rayon::prelude::*;
@@ -177,18 +177,45 @@ fn drive(
     }
 }
 
-/// Every future's site-wide draws, from stream (seed, SITE, s).
-fn draw_sites(model: &Model, opts: &RunOptions) -> Result<Vec<SiteDraw>> {
-    let sampler = model
+/// The site sampler of `model`.
+fn site_sampler(model: &Model) -> Result<SiteSampler> {
+    model
         .factors
         .site_sampler(&model.economics)
         .map_err(|e| Error::Model {
             origin: "factors".into(),
             message: e.to_string(),
-        })?;
+        })
+}
+
+/// Every future's site-wide draws, from stream (seed, SITE, s).
+fn draw_sites(model: &Model, opts: &RunOptions) -> Result<Vec<SiteDraw>> {
+    let sampler = site_sampler(model)?;
     Ok((0..opts.scenarios)
         .into_par_iter()
         .map(|s| sampler.draw(&mut stream(opts.seed, domain::SITE, s as u64)))
+        .collect())
+}
+
+/// [`draw_sites`] for `model`, given `before`, the site draws of an
+/// earlier run of `earlier` with the same seed and futures: a factor whose
+/// distribution is unchanged is copied ([`SiteSampler::draw_reusing`]),
+/// all of them when nothing changed. Same bits as [`draw_sites`].
+fn redraw_sites(
+    model: &Model,
+    opts: &RunOptions,
+    earlier: &Model,
+    before: &[SiteDraw],
+) -> Result<Vec<SiteDraw>> {
+    let sampler = site_sampler(model)?;
+    let old = site_sampler(earlier)?;
+    if sampler == old {
+        return Ok(before.to_vec());
+    }
+    Ok(before
+        .par_iter()
+        .enumerate()
+        .map(|(s, b)| sampler.draw_reusing(&mut stream(opts.seed, domain::SITE, s as u64), &old, b))
         .collect())
 }
 
@@ -238,21 +265,22 @@ pub enum ClusterRun<'a> {
 /// the same in every future of a future whose ranking shock differs from the
 /// source's or whose source multiplier is not positive (nothing to rescale
 /// from). The result equals [`run`] on `model` up to the rounding of the
-/// stored f32 values (one or two units in the last place). `site`, when
-/// given, are the site draws to use instead of drawing them again: pass an
-/// earlier run's when `model` has the same factors and economics (the
-/// draws are then the same).
+/// stored f32 values (one or two units in the last place). `earlier`,
+/// when given, is a model this one varies and the site draws of its run
+/// with the same seed and futures: the site factors whose distribution the
+/// variant leaves alone are copied from them instead of drawn again (same
+/// bits).
 pub fn rerun(
     model: &Model,
     opts: &RunOptions,
     plan: &[ClusterRun],
-    site: Option<&[SiteDraw]>,
+    earlier: Option<(&Model, &[SiteDraw])>,
 ) -> Result<Futures> {
     check_memory(model, opts.scenarios, opts.max_memory)?;
     let slots = model.slot_index();
     let (h, n, nc) = (model.horizon(), slots.len(), model.clusters.len());
     let fits = plan.len() == nc
-        && site.is_none_or(|v| v.len() == opts.scenarios)
+        && earlier.is_none_or(|(_, v)| v.len() == opts.scenarios)
         && plan.iter().all(|r| match r {
             ClusterRun::Copy(src) => {
                 let f = src.futures;
@@ -269,8 +297,8 @@ pub fn rerun(
             opts.scenarios, n, h
         )));
     }
-    let site = match site {
-        Some(v) => v.to_vec(),
+    let site = match earlier {
+        Some((m, v)) => redraw_sites(model, opts, m, v)?,
         None => draw_sites(model, opts)?,
     };
     Ok(drive(model, opts, site, |sc, s, site, out, exec_out| {

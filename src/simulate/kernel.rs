@@ -15,6 +15,8 @@ use crate::clicks::{KeywordDraws, SiteDraw};
 pub struct FutureContext {
     /// Log-position shift from a ranking shock, per horizon month.
     pub shock: Vec<f64>,
+    /// No month is shocked (every entry of `shock` is +0).
+    pub calm: bool,
 }
 
 impl FutureContext {
@@ -25,16 +27,18 @@ impl FutureContext {
         } else {
             horizon
         };
-        let shock = (0..horizon)
+        let shock: Vec<f64> = (0..horizon)
             .map(|m| if m >= from { site.shock_log_loss } else { 0.0 })
             .collect();
-        FutureContext { shock }
+        let calm = shock.iter().all(|v| v.to_bits() == 0);
+        FutureContext { shock, calm }
     }
 
     /// No shock.
     pub fn calm(horizon: usize) -> FutureContext {
         FutureContext {
             shock: vec![0.0; horizon],
+            calm: true,
         }
     }
 }
@@ -63,6 +67,8 @@ fn tier_gain(
 /// keyword loop allocates nothing.
 #[derive(Debug, Clone)]
 pub struct KernelScratch {
+    /// 0, 1, 2, ... as f64 (month indices for the ramp).
+    months: Vec<f64>,
     ramp: Vec<f64>,
     base: Vec<f64>,
     old: Vec<f64>,
@@ -73,6 +79,7 @@ impl KernelScratch {
     /// Scratch for `horizon` months.
     pub fn new(horizon: usize) -> KernelScratch {
         KernelScratch {
+            months: (0..horizon).map(|m| m as f64).collect(),
             ramp: vec![0.0; horizon],
             base: vec![0.0; horizon],
             old: vec![0.0; horizon],
@@ -110,16 +117,28 @@ pub fn add_keyword(
         &model.ctr_lookup
     };
     let ctr0 = lookup.ctr_ln(kw.ln_p0);
-    for m in first..h {
-        sc.ramp[m] = model.rank.ramp(first_since + m as f64, months_full);
-        let shock = ctx.shock[m];
-        sc.base[m] = kw.ln_p0 + shock;
-        sc.old[m] = if shock == 0.0 {
-            ctr0
-        } else {
-            lookup.ctr_ln(sc.base[m])
-        };
-        sc.weight[m] = kw.volume * model.season[m];
+    model.rank.ramp_months(
+        &mut sc.ramp[first..],
+        &sc.months[first..],
+        first_since,
+        months_full,
+    );
+    if ctx.calm {
+        sc.base[first..].fill(kw.ln_p0 + 0.0);
+        sc.old[first..].fill(ctr0);
+    } else {
+        for m in first..h {
+            let shock = ctx.shock[m];
+            sc.base[m] = kw.ln_p0 + shock;
+            sc.old[m] = if shock == 0.0 {
+                ctr0
+            } else {
+                lookup.ctr_ln(sc.base[m])
+            };
+        }
+    }
+    for (w, &season) in sc.weight[first..].iter_mut().zip(&model.season[first..]) {
+        *w = kw.volume * season;
     }
     // The keyword's luck and its cluster's execution, shared by every tier
     // (0 when it gains nothing under the model).

@@ -162,21 +162,41 @@ pub fn summarise_futures(model: &Model, f: &Futures, seed: u64, currency: &str) 
 /// The net-return matrix for the allocation: `S x slots`, scenario-major,
 /// each slot's marginal gross profit minus its cost.
 pub fn net_returns(model: &Model, f: &Futures) -> Vec<f32> {
-    let margin = model.economics.margin;
-    let costs: Vec<f64> = f
-        .slots
-        .iter()
-        .map(|&(c, t)| model.clusters[c].tiers[t].cost)
-        .collect();
+    let costs = slot_costs(model, f);
     let n = f.slots.len();
     let mut out = vec![0f32; f.scenarios * n];
-    for s in 0..f.scenarios {
-        let v = revenue_per_click(&f.site[s]) * margin;
-        for j in 0..n {
-            out[s * n + j] = (marginal_clicks(f, s, j) * v - costs[j]) as f32;
-        }
-    }
+    // Futures in parallel (each row on its own: any thread count gives the
+    // same bits).
+    out.par_chunks_mut(n.max(1))
+        .take(f.scenarios)
+        .enumerate()
+        .for_each(|(s, row)| {
+            let v = profit_per_click(model, f, s);
+            for (j, r) in row.iter_mut().enumerate() {
+                *r = net_return(f, s, j, v, costs[j]);
+            }
+        });
     out
+}
+
+/// Each slot's own cost (not cumulative), in slot order.
+pub(crate) fn slot_costs(model: &Model, f: &Futures) -> Vec<f64> {
+    f.slots
+        .iter()
+        .map(|&(c, t)| model.clusters[c].tiers[t].cost)
+        .collect()
+}
+
+/// Gross profit per incremental click in future `s`.
+pub(crate) fn profit_per_click(model: &Model, f: &Futures, s: usize) -> f64 {
+    revenue_per_click(&f.site[s]) * model.economics.margin
+}
+
+/// Entry `(s, j)` of [`net_returns`], given future `s`'s profit per click
+/// `v` and slot `j`'s cost.
+#[inline]
+pub(crate) fn net_return(f: &Futures, s: usize, j: usize, v: f64, cost: f64) -> f32 {
+    (marginal_clicks(f, s, j) * v - cost) as f32
 }
 
 fn stat_cols(s: &Stats) -> [String; 4] {

@@ -262,8 +262,7 @@ pub fn loop_keys(preset: Option<&StressPreset>, n: usize, seed: u64) -> Vec<Loop
 /// A run a later preset may take clusters from: its keys (`None` for a
 /// cluster it skipped), the number of tiers it holds per cluster, the
 /// volume scale it ran with, and its futures. The first is the base case
-/// (its site draws are reused when a preset leaves the factors and the
-/// economics alone).
+/// (the site factors a preset leaves alone are copied from its draws).
 pub struct Done<'a> {
     pub keys: Vec<Option<LoopKey>>,
     pub tiers: Vec<usize>,
@@ -328,13 +327,9 @@ pub fn run_preset_from(
             ClusterRun::Copy(_) => want[c],
         })
         .collect();
-    // The site draws depend on the factors and the economics only.
-    let same_site = stressed.factors == model.factors && stressed.economics == model.economics;
-    let site = done
-        .first()
-        .filter(|_| same_site)
-        .map(|d| d.futures.site.as_slice());
-    let futures = crate::simulate::rerun(&stressed, opts, &plan, site)?;
+    // The site factors the preset leaves alone are copied from the base run.
+    let earlier = done.first().map(|d| (model, d.futures.site.as_slice()));
+    let futures = crate::simulate::rerun(&stressed, opts, &plan, earlier)?;
     let baseline = baseline.map(|b| stressed_copy(preset, b));
     Ok(StressedCase {
         notes: notes(preset, model, opts.seed),

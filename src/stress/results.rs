@@ -12,12 +12,14 @@
 //! 2002). ROI = (mean incremental gross profit − cost) / cost.
 
 use super::StressError;
-use crate::simulate::{net_returns, Futures, Model};
+use crate::simulate::summary::{net_return, profit_per_click, slot_costs};
+use crate::simulate::{Futures, Model};
 use crate::stats::mean;
 use crate::target::totals::{
-    check_fractions, check_model, funded_monthly, horizon_totals, row_sums,
+    check_fractions, check_model, funded_monthly, row_sums, with_baseline,
 };
 use crate::target::{Metric, Target};
+use rayon::prelude::*;
 use serde::Serialize;
 
 /// `(VaR, CVaR)` of equally likely `losses` at `level` (0.90: the worst
@@ -34,12 +36,24 @@ pub fn portfolio_net(
 ) -> Result<Vec<f64>, StressError> {
     check_fractions(futures, fractions)?;
     check_model(model, futures)?;
-    let n = futures.slots.len();
-    let net = net_returns(model, futures);
-    Ok(net
-        .chunks(n.max(1))
-        .take(futures.scenarios)
-        .map(|row| row.iter().zip(fractions).map(|(&r, &x)| r as f64 * x).sum())
+    // The entries of `net_returns` the allocation funds, in slot order (an
+    // unfunded slot adds a zero), summed in parallel over futures.
+    let costs = slot_costs(model, futures);
+    let funded: Vec<(usize, f64)> = fractions
+        .iter()
+        .enumerate()
+        .filter(|&(_, &x)| x != 0.0)
+        .map(|(j, &x)| (j, x))
+        .collect();
+    Ok((0..futures.scenarios)
+        .into_par_iter()
+        .map(|s| {
+            let v = profit_per_click(model, futures, s);
+            funded
+                .iter()
+                .map(|&(j, x)| net_return(futures, s, j, v, costs[j]) as f64 * x)
+                .sum()
+        })
         .collect())
 }
 
@@ -107,13 +121,12 @@ pub fn evaluate(
     let (var, cvar) = cvar_of_losses(&losses, tail_level);
     let cost = crate::target::report::spend(case.model, case.futures, fractions);
     let expected = mean(&net);
-    let clicks = mean(&row_sums(
-        &funded_monthly(case.futures, fractions)?,
-        case.futures.horizon,
-    ));
+    let funded = funded_monthly(case.futures, fractions)?;
+    let clicks = mean(&row_sums(&funded, case.futures.horizon));
     let chance = match (target, case.baseline) {
         (Some(t), Some(b)) => {
-            let totals = horizon_totals(case.futures, b, fractions, t.metric)?;
+            let monthly = with_baseline(case.futures, funded, b, t.metric)?;
+            let totals = row_sums(&monthly, case.futures.horizon);
             Some(crate::target::odds(&totals, t.amount, None).chance)
         }
         _ => None,

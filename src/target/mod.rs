@@ -21,7 +21,9 @@ pub mod totals;
 
 pub use odds::{odds, volume_needed, Odds};
 pub use report::{compare, PlanOdds, TargetReport};
-pub use totals::{cluster_volumes, funded_monthly, horizon_totals, monthly_totals, uplift};
+pub use totals::{
+    cluster_volumes, funded_monthly, horizon_totals, monthly_totals, uplift, with_baseline,
+};
 
 use crate::inputs::load::Inputs;
 use crate::month::Month;

@@ -19,6 +19,7 @@
 use super::{Metric, TargetError};
 use crate::simulate::summary::revenue_per_click;
 use crate::simulate::{Futures, Model};
+use rayon::prelude::*;
 
 /// Checks that the futures' matrices have the sizes their counts say.
 pub fn check_futures(f: &Futures) -> Result<(), TargetError> {
@@ -133,21 +134,35 @@ pub fn check_paths(futures: &Futures, paths: &[f64], what: &str) -> Result<(), T
 pub fn funded_monthly(futures: &Futures, fractions: &[f64]) -> Result<Vec<f64>, TargetError> {
     check_fractions(futures, fractions)?;
     let h = futures.horizon;
+    // The funded slots with their fractions and whether a tier lies below.
+    let funded: Vec<(usize, f64, bool)> = futures
+        .slots
+        .iter()
+        .enumerate()
+        .map(|(j, &(_, t))| (j, fractions[j].clamp(0.0, 1.0), t > 0))
+        .filter(|&(_, x, _)| x != 0.0)
+        .collect();
     let mut out = vec![0.0; futures.scenarios * h];
-    for (s, row) in out.chunks_mut(h.max(1)).enumerate().take(futures.scenarios) {
-        for (j, &(_, t)) in futures.slots.iter().enumerate() {
-            let x = fractions[j].clamp(0.0, 1.0);
-            if x == 0.0 {
-                continue;
+    // Futures in parallel; each row is summed in slot order, so the result
+    // does not depend on the thread count.
+    out.par_chunks_mut(h.max(1))
+        .take(futures.scenarios)
+        .enumerate()
+        .for_each(|(s, row)| {
+            for &(j, x, below) in &funded {
+                let own = futures.monthly(s, j);
+                if below {
+                    let under = futures.monthly(s, j - 1);
+                    for ((r, &o), &b) in row.iter_mut().zip(own).zip(under) {
+                        *r += x * (o as f64 - b as f64);
+                    }
+                } else {
+                    for (r, &o) in row.iter_mut().zip(own) {
+                        *r += x * (o as f64 - 0.0);
+                    }
+                }
             }
-            let own = futures.monthly(s, j);
-            let below = (t > 0).then(|| futures.monthly(s, j - 1));
-            for (m, r) in row.iter_mut().enumerate() {
-                let b = below.map_or(0.0, |v| v[m] as f64);
-                *r += x * (own[m] as f64 - b);
-            }
-        }
-    }
+        });
     Ok(out)
 }
 
@@ -160,15 +175,38 @@ pub fn monthly_totals(
     metric: Metric,
 ) -> Result<Vec<f64>, TargetError> {
     check_paths(futures, baseline, "the baseline paths")?;
-    let mut out = funded_monthly(futures, fractions)?;
+    with_baseline(
+        futures,
+        funded_monthly(futures, fractions)?,
+        baseline,
+        metric,
+    )
+}
+
+/// [`monthly_totals`] from the plan's [`funded_monthly`] increments.
+pub fn with_baseline(
+    futures: &Futures,
+    mut funded: Vec<f64>,
+    baseline: &[f64],
+    metric: Metric,
+) -> Result<Vec<f64>, TargetError> {
+    check_paths(futures, baseline, "the baseline paths")?;
+    if funded.len() != baseline.len() {
+        return Err(TargetError::Shape {
+            what: "the funded increments".into(),
+            found: funded.len(),
+            expected: baseline.len(),
+            hint: "funded_monthly of the same futures".into(),
+        });
+    }
     let h = futures.horizon.max(1);
-    for (i, v) in out.iter_mut().enumerate() {
+    for (i, v) in funded.iter_mut().enumerate() {
         *v += baseline[i];
         if metric == Metric::Revenue {
             *v *= revenue_per_click(&futures.site[i / h]);
         }
     }
-    Ok(out)
+    Ok(funded)
 }
 
 /// Row sums of an `S × horizon` matrix.
