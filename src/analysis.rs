@@ -5,11 +5,12 @@
 //! `track` modules on one simulation, so every command and the report agree.
 
 use crate::allocate::{self, Allocation, Problem, SolveOptions};
+use crate::clicks::{SiteDraw, SiteSampler};
 use crate::drivers::{self, DriverReport};
 use crate::error::Result;
 use crate::model_files;
 use crate::pipeline::Simulated;
-use crate::simulate::RunOptions;
+use crate::simulate::{RunOptions, SiteSource};
 use crate::stress::{self, Case, ReportHead, StressPreset, StressReport};
 use crate::target::{self, Metric, Target, TargetReport};
 use crate::track::{self, TrackInput, TrackOptions, TrackReport};
@@ -116,6 +117,10 @@ pub fn stress_report(
         crate::simulate::Futures,
     );
     let mut kept: Vec<Kept> = Vec::new();
+    // The site draws of each preset whose site sampler differs from all
+    // before it: a later preset copies the factors it shares with one.
+    let base_sampler = SiteSource::of(&s.model, &s.futures)?.sampler;
+    let mut drawn: Vec<(SiteSampler, Vec<SiteDraw>)> = Vec::new();
     let mut rows = Vec::new();
     for name in names {
         let preset = load_preset(s, name)?;
@@ -139,8 +144,19 @@ pub fn stress_report(
                 Some(&s.baseline_paths),
                 &opts,
                 Some(&needed),
+                &drawn
+                    .iter()
+                    .map(|(sampler, draws)| SiteSource {
+                        sampler: *sampler,
+                        draws,
+                    })
+                    .collect::<Vec<_>>(),
             )?
         };
+        let sampler = SiteSource::of(&case.model, &case.futures)?.sampler;
+        if sampler != base_sampler && drawn.iter().all(|d| d.0 != sampler) {
+            drawn.push((sampler, case.futures.site.clone()));
+        }
         let c = Case {
             name: &preset.name,
             description: &preset.description,
@@ -236,7 +252,7 @@ pub fn allocate_under(
         volume_scale: 1.0,
         futures: &s.futures,
     }];
-    let case = stress::run_preset_from(&preset, &s.model, &done, None, &run, None)?;
+    let case = stress::run_preset_from(&preset, &s.model, &done, None, &run, None, &[])?;
     let base = crate::simulate::net_returns(&s.model, &s.futures);
     let stressed = crate::simulate::net_returns(&case.model, &case.futures);
     let mix = stress::mix_returns(&base, &stressed, s.futures.slots.len(), stress_weight)?;

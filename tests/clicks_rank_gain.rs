@@ -399,6 +399,7 @@ fn site_factor_draws_have_the_stated_means() {
 /// `draw_reusing` copies only the factors whose distribution is unchanged
 /// and otherwise draws: for samplers that differ in one factor at a time,
 /// and in all of them, it gives the same bits as `draw` on the same stream.
+/// With two earlier samplers, each factor comes from the one that shares it.
 #[test]
 fn reusing_earlier_site_draws_gives_the_same_bits_as_drawing_again() {
     let m = model();
@@ -433,12 +434,41 @@ fn reusing_earlier_site_draws_gives_the_same_bits_as_drawing_again() {
         for s in 0..500 {
             let before = earlier.draw(&mut stream(5, domain::SITE, s));
             let fresh = new.draw(&mut stream(5, domain::SITE, s));
-            let reused = new.draw_reusing(&mut stream(5, domain::SITE, s), &earlier, &before);
+            let reuse = new.reuse_from(&[earlier]);
+            let reused = new.draw_reusing(&mut stream(5, domain::SITE, s), &reuse, |_| &before);
             assert_eq!(fresh, reused, "variant {i}, future {s}");
             changed += usize::from(fresh != before);
         }
         // Every variant but the first changes some draws (the check is not
         // passed by copying everything).
         assert_eq!(changed == 0, i == 0, "variant {i}: {changed} draws changed");
+    }
+    // The last variant shares nothing with `earlier`; with the click-through
+    // variant and the lower-conversion variant as sources as well, its
+    // click-through factor comes from the first and its conversion rate from
+    // the second, and its volume and order value are drawn (no source has
+    // their distributions).
+    let sources = [earlier, variants[1], variants[4]];
+    let reuse = variants[6].reuse_from(&sources);
+    assert_eq!(
+        (reuse.ctr, reuse.volume, reuse.conversion, reuse.order_value),
+        (Some(1), None, Some(2), None)
+    );
+    let reuse = variants[4].reuse_from(&sources);
+    assert_eq!(
+        (reuse.ctr, reuse.volume, reuse.conversion, reuse.order_value),
+        (Some(0), Some(0), Some(2), Some(0))
+    );
+    for s in 0..200 {
+        let before: Vec<_> = sources
+            .iter()
+            .map(|x| x.draw(&mut stream(5, domain::SITE, s)))
+            .collect();
+        for new in [variants[6], variants[4]] {
+            let reuse = new.reuse_from(&sources);
+            let fresh = new.draw(&mut stream(5, domain::SITE, s));
+            let reused = new.draw_reusing(&mut stream(5, domain::SITE, s), &reuse, |i| &before[i]);
+            assert_eq!(fresh, reused, "future {s}");
+        }
     }
 }

@@ -6,7 +6,7 @@
 
 mod target_support;
 use furrow::output::{render, Format};
-use furrow::simulate::{Futures, Model};
+use furrow::simulate::{Futures, Model, SiteSource};
 use furrow::stress::{self, Case, ReportHead, StressPreset};
 use furrow::target::{self, Metric, Target};
 use proptest::prelude::*;
@@ -369,8 +369,18 @@ fn partial_rerun_matches_the_full_rerun() {
         )
         .unwrap(),
     );
+    // Each preset may also copy site factors from the presets before it
+    // (the bad year's conversion rate from the weaker conversion's draws).
+    let mut drawn: Vec<(furrow::clicks::SiteSampler, Vec<furrow::clicks::SiteDraw>)> = Vec::new();
     for p in &presets {
         let full = stressed(p);
+        let sources: Vec<SiteSource> = drawn
+            .iter()
+            .map(|(sampler, draws)| SiteSource {
+                sampler: *sampler,
+                draws,
+            })
+            .collect();
         let part = stress::run_preset_from(
             p,
             &b.model,
@@ -378,8 +388,11 @@ fn partial_rerun_matches_the_full_rerun() {
             Some(&b.baseline),
             &options(N, SEED),
             None,
+            &sources,
         )
         .unwrap();
+        let source = SiteSource::of(&part.model, &part.futures).unwrap();
+        drawn.push((source.sampler, part.futures.site.clone()));
         let f = &full.futures;
         let q = &part.futures;
         assert_eq!(f.site, q.site, "{}", p.name);
@@ -428,7 +441,7 @@ fn partial_rerun_can_reuse_an_earlier_preset() {
         .count();
     assert!(shared > 0 && shared < n, "{shared} of {n} clusters shared");
     let part =
-        stress::run_preset_from(&bad, &b.model, &done, None, &options(N, SEED), None).unwrap();
+        stress::run_preset_from(&bad, &b.model, &done, None, &options(N, SEED), None, &[]).unwrap();
     let full = stressed(&bad).futures;
     assert_eq!(full.site, part.futures.site);
     assert_eq!(full.execution, part.futures.execution);
@@ -463,6 +476,7 @@ fn a_stressed_run_can_stop_at_the_funded_tiers() {
             Some(&b.baseline),
             &options(N, SEED),
             Some(&needed),
+            &[],
         )
         .unwrap();
         let held: Vec<usize> = (0..n)

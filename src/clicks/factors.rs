@@ -133,6 +133,17 @@ impl Factors {
     }
 }
 
+/// Where [`SiteSampler::draw_reusing`] copies each costly factor from:
+/// the index of an earlier sampler with the same distribution, or None to
+/// draw it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Reuse {
+    pub ctr: Option<usize>,
+    pub volume: Option<usize>,
+    pub conversion: Option<usize>,
+    pub order_value: Option<usize>,
+}
+
 /// Draws the site-wide factors of one future; built by
 /// [`Factors::site_sampler`].
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -152,51 +163,52 @@ impl SiteSampler {
         self.expected
     }
 
-    /// [`SiteSampler::draw`] of the same stream, taking each factor whose
-    /// distribution equals `earlier`'s from `before`, that sampler's draw of
-    /// the same stream (the stream is read in full all the same, so the
-    /// result has the same bits as `draw`). A stress preset that changes
-    /// only the click-through factor then does not invert the conversion
-    /// rate's Beta CDF again.
-    pub fn draw_reusing(
+    /// For each factor, the first of `earlier` samplers that draws it from
+    /// the same distribution (so its draws can be copied).
+    pub fn reuse_from(&self, earlier: &[SiteSampler]) -> Reuse {
+        let find = |same: &dyn Fn(&SiteSampler) -> bool| earlier.iter().position(same);
+        Reuse {
+            ctr: find(&|e| e.ctr == self.ctr),
+            volume: find(&|e| e.volume == self.volume),
+            conversion: find(&|e| e.conversion == self.conversion),
+            order_value: find(&|e| e.order_value == self.order_value),
+        }
+    }
+
+    /// [`SiteSampler::draw`] of the same stream, copying each factor that
+    /// `reuse` finds in an earlier sampler from `before(i)`, earlier sampler
+    /// `i`'s draw of the same stream (the stream is read in full all the
+    /// same, so the result has the same bits as `draw`). A stress preset
+    /// that changes only the click-through factor then does not invert the
+    /// conversion rate's Beta CDF again.
+    pub fn draw_reusing<'a>(
         &self,
         rng: &mut Stream,
-        earlier: &SiteSampler,
-        before: &SiteDraw,
+        reuse: &Reuse,
+        before: impl Fn(usize) -> &'a SiteDraw,
     ) -> SiteDraw {
         let shock = uniform(rng) < self.shock_probability;
         let shock_month_share = uniform(rng);
         let (z_ctr, z_volume) = (standard_normal(rng), standard_normal(rng));
         let u_conversion = uniform(rng);
         let z_order = standard_normal(rng);
-        let ctr_factor = if self.ctr == earlier.ctr {
-            before.ctr_factor
-        } else {
-            self.ctr.at(z_ctr)
-        };
-        let volume_factor = if self.volume == earlier.volume {
-            before.volume_factor
-        } else {
-            self.volume.at(z_volume)
-        };
-        let conversion_rate = if self.conversion == earlier.conversion {
-            before.conversion_rate
-        } else {
-            self.conversion.quantile(u_conversion)
-        };
-        let order_value = if self.order_value == earlier.order_value {
-            before.order_value
-        } else {
-            self.order_value.at(z_order)
-        };
         SiteDraw {
             shock,
             shock_log_loss: if shock { self.shock_log_loss } else { 0.0 },
             shock_month_share,
-            ctr_factor,
-            volume_factor,
-            conversion_rate,
-            order_value,
+            ctr_factor: reuse
+                .ctr
+                .map_or_else(|| self.ctr.at(z_ctr), |i| before(i).ctr_factor),
+            volume_factor: reuse
+                .volume
+                .map_or_else(|| self.volume.at(z_volume), |i| before(i).volume_factor),
+            conversion_rate: reuse.conversion.map_or_else(
+                || self.conversion.quantile(u_conversion),
+                |i| before(i).conversion_rate,
+            ),
+            order_value: reuse
+                .order_value
+                .map_or_else(|| self.order_value.at(z_order), |i| before(i).order_value),
         }
     }
 

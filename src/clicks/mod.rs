@@ -26,7 +26,7 @@ pub use economics::{
     incremental_clicks, monthly_money, return_on_spend, roi, ConversionRate, Economics, Money,
     OrderValue, Seasonality,
 };
-pub use factors::{Factors, SiteDraw, SiteSampler};
+pub use factors::{Factors, Reuse, SiteDraw, SiteSampler};
 pub use gain_distribution::{ExplicitGain, GainDistribution, GainScale};
 pub use rank_gain::{position_after, KeywordDraws, RankGainModel};
 

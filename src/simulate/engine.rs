@@ -197,25 +197,40 @@ fn draw_sites(model: &Model, opts: &RunOptions) -> Result<Vec<SiteDraw>> {
         .collect())
 }
 
-/// [`draw_sites`] for `model`, given `before`, the site draws of an
-/// earlier run of `earlier` with the same seed and futures: a factor whose
-/// distribution is unchanged is copied ([`SiteSampler::draw_reusing`]),
-/// all of them when nothing changed. Same bits as [`draw_sites`].
-fn redraw_sites(
-    model: &Model,
-    opts: &RunOptions,
-    earlier: &Model,
-    before: &[SiteDraw],
-) -> Result<Vec<SiteDraw>> {
-    let sampler = site_sampler(model)?;
-    let old = site_sampler(earlier)?;
-    if sampler == old {
-        return Ok(before.to_vec());
+/// The site draws of an earlier run (same seed and futures) and the
+/// sampler that drew them, for [`rerun`] to copy the factors it shares.
+#[derive(Clone, Copy)]
+pub struct SiteSource<'a> {
+    pub sampler: SiteSampler,
+    pub draws: &'a [SiteDraw],
+}
+
+impl<'a> SiteSource<'a> {
+    /// The site draws of `futures`, a run of `model`.
+    pub fn of(model: &Model, futures: &'a Futures) -> Result<SiteSource<'a>> {
+        Ok(SiteSource {
+            sampler: site_sampler(model)?,
+            draws: &futures.site,
+        })
     }
-    Ok(before
-        .par_iter()
-        .enumerate()
-        .map(|(s, b)| sampler.draw_reusing(&mut stream(opts.seed, domain::SITE, s as u64), &old, b))
+}
+
+/// [`draw_sites`] for `model`, copying each factor whose distribution one
+/// of `earlier` shares ([`SiteSampler::draw_reusing`]), all of them when one
+/// sampler is the same. Same bits as [`draw_sites`].
+fn redraw_sites(model: &Model, opts: &RunOptions, earlier: &[SiteSource]) -> Result<Vec<SiteDraw>> {
+    let sampler = site_sampler(model)?;
+    if let Some(same) = earlier.iter().find(|e| e.sampler == sampler) {
+        return Ok(same.draws.to_vec());
+    }
+    let samplers: Vec<SiteSampler> = earlier.iter().map(|e| e.sampler).collect();
+    let reuse = sampler.reuse_from(&samplers);
+    Ok((0..opts.scenarios)
+        .into_par_iter()
+        .map(|s| {
+            let rng = &mut stream(opts.seed, domain::SITE, s as u64);
+            sampler.draw_reusing(rng, &reuse, |i| &earlier[i].draws[s])
+        })
         .collect())
 }
 
@@ -265,22 +280,20 @@ pub enum ClusterRun<'a> {
 /// the same in every future of a future whose ranking shock differs from the
 /// source's or whose source multiplier is not positive (nothing to rescale
 /// from). The result equals [`run`] on `model` up to the rounding of the
-/// stored f32 values (one or two units in the last place). `earlier`,
-/// when given, is a model this one varies and the site draws of its run
-/// with the same seed and futures: the site factors whose distribution the
-/// variant leaves alone are copied from them instead of drawn again (same
-/// bits).
+/// stored f32 values (one or two units in the last place). The site
+/// factors whose distribution one of `earlier` runs shares are copied from
+/// its draws instead of drawn again (same bits).
 pub fn rerun(
     model: &Model,
     opts: &RunOptions,
     plan: &[ClusterRun],
-    earlier: Option<(&Model, &[SiteDraw])>,
+    earlier: &[SiteSource],
 ) -> Result<Futures> {
     check_memory(model, opts.scenarios, opts.max_memory)?;
     let slots = model.slot_index();
     let (h, n, nc) = (model.horizon(), slots.len(), model.clusters.len());
     let fits = plan.len() == nc
-        && earlier.is_none_or(|(_, v)| v.len() == opts.scenarios)
+        && earlier.iter().all(|e| e.draws.len() == opts.scenarios)
         && plan.iter().all(|r| match r {
             ClusterRun::Copy(src) => {
                 let f = src.futures;
@@ -297,10 +310,7 @@ pub fn rerun(
             opts.scenarios, n, h
         )));
     }
-    let site = match earlier {
-        Some((m, v)) => redraw_sites(model, opts, m, v)?,
-        None => draw_sites(model, opts)?,
-    };
+    let site = redraw_sites(model, opts, earlier)?;
     Ok(drive(model, opts, site, |sc, s, site, out, exec_out| {
         rerun_future(model, opts.seed, plan, s, site, sc, out, exec_out)
     }))

@@ -10,7 +10,7 @@ pub mod kernel;
 pub mod model;
 pub mod summary;
 
-pub use engine::{rerun, run, ClusterRun, Futures, RunOptions, Source};
+pub use engine::{rerun, run, ClusterRun, Futures, RunOptions, SiteSource, Source};
 pub use model::{prepare, Model};
 pub use summary::{net_returns, summarise_futures, SimSummary};
 

@@ -30,7 +30,7 @@ use crate::clicks::{
 };
 use crate::rng::stream;
 use crate::simulate::model::TierGain;
-use crate::simulate::{Futures, Model, RunOptions};
+use crate::simulate::{Futures, Model, RunOptions, SiteSource};
 use rand::RngExt;
 
 /// The clusters (indices) a preset's ranking shock hits among `n`.
@@ -281,6 +281,9 @@ pub struct Done<'a> {
 /// `simulated` says how many tiers each cluster holds. For a caller that
 /// reads only those, such as the stress test of an allocation that funds
 /// no tier above them (tier t does not depend on the tiers above it).
+///
+/// The site factors the preset leaves alone are copied from the base run
+/// (`done[0]`) or from `sites`, the site draws of other earlier runs.
 pub fn run_preset_from(
     preset: &StressPreset,
     model: &Model,
@@ -288,6 +291,7 @@ pub fn run_preset_from(
     baseline: Option<&[f64]>,
     opts: &RunOptions,
     needed: Option<&[usize]>,
+    sites: &[SiteSource],
 ) -> crate::Result<StressedCase> {
     use crate::simulate::{ClusterRun, Source};
     let stressed = apply(preset, model, opts.seed);
@@ -327,9 +331,12 @@ pub fn run_preset_from(
             ClusterRun::Copy(_) => want[c],
         })
         .collect();
-    // The site factors the preset leaves alone are copied from the base run.
-    let earlier = done.first().map(|d| (model, d.futures.site.as_slice()));
-    let futures = crate::simulate::rerun(&stressed, opts, &plan, earlier)?;
+    let mut earlier = match done.first() {
+        Some(d) => vec![SiteSource::of(model, d.futures)?],
+        None => Vec::new(),
+    };
+    earlier.extend_from_slice(sites);
+    let futures = crate::simulate::rerun(&stressed, opts, &plan, &earlier)?;
     let baseline = baseline.map(|b| stressed_copy(preset, b));
     Ok(StressedCase {
         notes: notes(preset, model, opts.seed),
