@@ -16,33 +16,30 @@ pub fn cvar_of_losses(losses: &[f64], weights: Option<&[f64]>, level: f64) -> (f
     if losses.is_empty() {
         return (0.0, 0.0);
     }
+    let weights = weights.filter(|w| w.len() == losses.len());
+    if weights.is_none() && !(level.is_nan() || level >= 1.0) {
+        // Equal weights: the VaR is one order statistic, found by selection
+        // (the value a sort would put there) without sorting.
+        let level = level.max(0.0);
+        let k = crate::stats::order_index(losses.len(), level);
+        let var = *losses.to_vec().select_nth_unstable_by(k, f64::total_cmp).1;
+        let e: f64 = losses.iter().map(|&l| (l - var).max(0.0)).sum();
+        return (var, var + e / losses.len() as f64 / (1.0 - level));
+    }
     let mut order: Vec<usize> = (0..losses.len()).collect();
     order.sort_by(|&a, &b| losses[a].total_cmp(&losses[b]));
-    if level.is_nan() || level >= 1.0 {
+    let Some(w) = weights.filter(|_| !(level.is_nan() || level >= 1.0)) else {
         let worst = losses[order[order.len() - 1]];
         return (worst, worst);
-    }
+    };
     let level = level.max(0.0);
-    let weights = weights.filter(|w| w.len() == losses.len());
-    let var = match weights {
-        None => losses[order[crate::stats::order_index(losses.len(), level)]],
-        Some(w) => losses[order[weighted_index(&order, w, level)]],
-    };
-    let (excess, total) = match weights {
-        None => {
-            let e: f64 = losses.iter().map(|&l| (l - var).max(0.0)).sum();
-            (e / losses.len() as f64, 1.0)
-        }
-        Some(w) => {
-            let e: f64 = losses
-                .iter()
-                .zip(w)
-                .map(|(&l, &p)| p * (l - var).max(0.0))
-                .sum();
-            (e, w.iter().sum::<f64>())
-        }
-    };
-    (var, var + excess / ((1.0 - level) * total))
+    let var = losses[order[weighted_index(&order, w, level)]];
+    let excess: f64 = losses
+        .iter()
+        .zip(w)
+        .map(|(&l, &p)| p * (l - var).max(0.0))
+        .sum();
+    (var, var + excess / ((1.0 - level) * w.iter().sum::<f64>()))
 }
 
 fn weighted_index(order: &[usize], w: &[f64], level: f64) -> usize {

@@ -29,7 +29,7 @@ use crate::inputs::load::Inputs;
 use crate::output::{csv, json, num, Render, Rows};
 use crate::pipeline::{self, SimOptions, Simulated};
 use crate::simulate::summarise_futures;
-use crate::stats::{quantile_sorted, sort};
+use crate::stats::quantiles;
 use crate::text::{int, money, pct};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
@@ -164,16 +164,16 @@ fn forecast_rows(s: &Simulated, fractions: &[f64]) -> Result<Vec<ForecastRow>> {
         .enumerate()
         .map(|(m, b)| {
             let mut col: Vec<f64> = totals.chunks(h).map(|r| r[m]).collect();
-            sort(&mut col);
+            let [p10, p50, p90] = quantiles(&mut col, [0.1, 0.5, 0.9]);
             ForecastRow {
                 month: b.month.to_string(),
                 baseline_mean: b.mean,
                 baseline_p10: b.p10,
                 baseline_p50: b.p50,
                 baseline_p90: b.p90,
-                with_plan_p10: quantile_sorted(&col, 0.1),
-                with_plan_p50: quantile_sorted(&col, 0.5),
-                with_plan_p90: quantile_sorted(&col, 0.9),
+                with_plan_p10: p10,
+                with_plan_p50: p50,
+                with_plan_p90: p90,
             }
         })
         .collect();

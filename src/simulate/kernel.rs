@@ -92,6 +92,7 @@ impl KernelScratch {
 /// (`tiers x horizon`, row per tier, tier gains cumulative); a shorter
 /// `acc` computes only the tiers it has rows for.
 #[allow(clippy::too_many_arguments)]
+#[inline(always)]
 pub fn add_keyword(
     model: &Model,
     c: &ClusterModel,

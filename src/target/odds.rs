@@ -17,7 +17,7 @@
 //!   site-wide factors) and to convert volume into clicks like the plan's
 //!   own keywords on average.
 
-use crate::stats::{mean, quantile_sorted, sort, Stats};
+use crate::stats::{mean, quantile_sorted, quantiles, sort, Stats};
 use serde::Serialize;
 
 /// One plan's figures against the target.
@@ -50,18 +50,19 @@ pub fn odds(totals: &[f64], target: f64, uplift: Option<&[f64]>) -> Odds {
     let n = totals.len();
     let reached = totals.iter().filter(|&&t| t >= target).count();
     let mut short: Vec<f64> = totals.iter().map(|t| (target - t).max(0.0)).collect();
+    // Summed in ascending order, as it always was.
     sort(&mut short);
-    let mut sorted = totals.to_vec();
-    let total_mean = mean(&sorted);
-    sort(&mut sorted);
-    let q = |v: &[f64], p: f64| {
-        if v.is_empty() {
-            0.0
-        } else {
-            quantile_sorted(v, p)
-        }
+    let shortfall_mean = mean(&short);
+    let mut values = totals.to_vec();
+    let total_mean = mean(&values);
+    // Quantiles by selection (the sorted sample's values); 0 when empty.
+    let zero_if_empty = |v: f64| if n == 0 { 0.0 } else { v };
+    let [p10, p50, p90] = quantiles(&mut values, [0.1, 0.5, 0.9]).map(zero_if_empty);
+    let short_p50 = if n == 0 {
+        0.0
+    } else {
+        quantile_sorted(&short, 0.5)
     };
-    let p10 = q(&sorted, 0.1);
     Odds {
         chance: if n == 0 {
             0.0
@@ -71,11 +72,11 @@ pub fn odds(totals: &[f64], target: f64, uplift: Option<&[f64]>) -> Odds {
         total: Stats {
             mean: total_mean,
             p10,
-            p50: q(&sorted, 0.5),
-            p90: q(&sorted, 0.9),
+            p50,
+            p90,
         },
-        shortfall_mean: mean(&short),
-        shortfall_p50: q(&short, 0.5),
+        shortfall_mean,
+        shortfall_p50: short_p50,
         shortfall_p10: if n == 0 { 0.0 } else { (target - p10).max(0.0) },
         uplift_per_volume: uplift.map(mean),
         volume_for_50: uplift.and_then(|u| volume_needed(totals, u, target, 0.5)),
