@@ -12,10 +12,18 @@ if [ $# -lt 2 ]; then
   sed -n '2,9p' "$0" | sed 's/^# \{0,1\}//'
   exit 2
 fi
-ref=$1 new=$2 runs=${3:-11}
+ref=$1 new=$2 runs=11
 shift 2
-[ $# -gt 0 ] && shift
-[ "${1:-}" = "--" ] && shift
+if [ $# -gt 0 ] && [ "$1" != "--" ]; then
+  runs=$1
+  shift
+fi
+if [ "${1:-}" = "--" ]; then
+  shift
+fi
+case $runs in
+  '' | *[!0-9]* | 0) echo "RUNS must be a whole number of at least 1, not '$runs'" >&2; exit 2 ;;
+esac
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 if [ $# -eq 0 ]; then
