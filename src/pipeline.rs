@@ -60,15 +60,23 @@ pub fn baseline(inputs: &Inputs) -> Result<PlanBaseline> {
 /// Prepares, forecasts and simulates a loaded plan.
 pub fn simulate(inputs: Inputs, opts: &SimOptions) -> Result<Simulated> {
     let model = simulate::prepare(&inputs)?;
-    let baseline = baseline(&inputs)?;
     let run = RunOptions {
         scenarios: inputs.plan.scenarios,
         seed: inputs.plan.seed,
         max_memory: opts.max_memory,
         progress: opts.progress,
     };
-    let futures = simulate::run(&model, &run)?;
-    let baseline_paths = baseline.paths(inputs.plan.scenarios, inputs.plan.seed);
+    // The baseline (one thread) is forecast beside the Monte Carlo.
+    let (base, futures) = rayon::join(
+        || -> Result<_> {
+            let b = baseline(&inputs)?;
+            let paths = b.paths(inputs.plan.scenarios, inputs.plan.seed);
+            Ok((b, paths))
+        },
+        || simulate::run(&model, &run),
+    );
+    let futures = futures?;
+    let (baseline, baseline_paths) = base?;
     Ok(Simulated {
         inputs,
         model,

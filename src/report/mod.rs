@@ -501,6 +501,16 @@ fn write_folder(dir: &Path, sm: &Summary) -> Result<()> {
 }
 
 fn write_files(tmp: &Path, sm: &Summary) -> Result<()> {
+    // The workbook (the slowest file to build) is built and written beside
+    // the others.
+    let (workbook, rest) = rayon::join(
+        || -> Result<()> { write_atomic(&tmp.join(workbook::FILE_NAME), &workbook::workbook(sm)?) },
+        || write_text_files(tmp, sm),
+    );
+    rest.and(workbook)
+}
+
+fn write_text_files(tmp: &Path, sm: &Summary) -> Result<()> {
     let cur = sm.currency.clone();
     let alloc = AllocationOutput {
         allocation: sm.allocation.clone(),
@@ -535,7 +545,6 @@ fn write_files(tmp: &Path, sm: &Summary) -> Result<()> {
     if let Some(t) = &sm.tracking {
         write_text(&tmp.join("tracking.csv"), &csv::to_string(&t.rows())?)?;
     }
-    write_atomic(&tmp.join(workbook::FILE_NAME), &workbook::workbook(sm)?)?;
     Ok(())
 }
 
