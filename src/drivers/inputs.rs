@@ -64,7 +64,7 @@ fn shock_share(f: &Futures, s: usize) -> f64 {
         return 0.0;
     }
     let ctx = FutureContext::new(&f.site[s], h);
-    ctx.shock.iter().filter(|&&v| v != 0.0).count() as f64 / h as f64
+    ctx.shocked_months(h) as f64 / h as f64
 }
 
 fn site_series(f: &Futures) -> Vec<InputSeries> {

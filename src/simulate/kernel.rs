@@ -10,12 +10,15 @@
 use super::model::{ClusterModel, KeywordModel, Model, TierGain};
 use crate::clicks::{KeywordDraws, SiteDraw};
 
-/// Month-level context of one future, computed once per future.
-#[derive(Debug, Clone)]
+/// Month-level context of one future, computed once per future: a ranking
+/// shock moves every month from `from` on by `loss` in log-position.
+#[derive(Debug, Clone, Copy)]
 pub struct FutureContext {
-    /// Log-position shift from a ranking shock, per horizon month.
-    pub shock: Vec<f64>,
-    /// No month is shocked (every entry of `shock` is +0).
+    /// First shocked month (the horizon when none is).
+    from: usize,
+    /// Log-position shift in a shocked month.
+    loss: f64,
+    /// No month is shocked (every month's shift is +0).
     pub calm: bool,
 }
 
@@ -27,18 +30,39 @@ impl FutureContext {
         } else {
             horizon
         };
-        let shock: Vec<f64> = (0..horizon)
-            .map(|m| if m >= from { site.shock_log_loss } else { 0.0 })
-            .collect();
-        let calm = shock.iter().all(|v| v.to_bits() == 0);
-        FutureContext { shock, calm }
+        let loss = site.shock_log_loss;
+        FutureContext {
+            from,
+            loss,
+            calm: from >= horizon || loss.to_bits() == 0,
+        }
     }
 
     /// No shock.
     pub fn calm(horizon: usize) -> FutureContext {
         FutureContext {
-            shock: vec![0.0; horizon],
+            from: horizon,
+            loss: 0.0,
             calm: true,
+        }
+    }
+
+    /// Log-position shift in month `m`.
+    #[inline]
+    pub fn shock(&self, m: usize) -> f64 {
+        if m >= self.from {
+            self.loss
+        } else {
+            0.0
+        }
+    }
+
+    /// Number of shocked months (a nonzero shift) among the first `horizon`.
+    pub fn shocked_months(&self, horizon: usize) -> usize {
+        if self.loss == 0.0 {
+            0
+        } else {
+            horizon.saturating_sub(self.from)
         }
     }
 }
@@ -129,7 +153,7 @@ pub fn add_keyword(
         sc.old[first..].fill(ctr0);
     } else {
         for m in first..h {
-            let shock = ctx.shock[m];
+            let shock = ctx.shock(m);
             sc.base[m] = kw.ln_p0 + shock;
             sc.old[m] = if shock == 0.0 {
                 ctr0
