@@ -41,9 +41,10 @@ pub fn mean(v: &[f64]) -> f64 {
 }
 
 /// Type-7 quantiles of an unsorted sample: the same values (to the bit) as
-/// [`quantile_sorted`] of the sorted sample, found by selection (Hoare's
-/// quickselect, `select_nth_unstable_by`) in linear time per quantile
-/// instead of a full sort. Reorders `v`. NaN for an empty sample.
+/// [`quantile_sorted`] of the sorted sample, found by selection
+/// (`select_nth_unstable_by`, a quickselect: Hoare, "Algorithm 65: Find",
+/// Communications of the ACM 4(7), 1961) in linear expected time per
+/// quantile instead of a full sort. Reorders `v`. NaN for an empty sample.
 pub fn quantiles<const N: usize>(v: &mut [f64], qs: [f64; N]) -> [f64; N] {
     let n = v.len();
     let mut out = [f64::NAN; N];
