@@ -10,13 +10,11 @@ use criterion::{criterion_group, criterion_main, Criterion};
 use furrow::plan::Overrides;
 use std::time::Duration;
 
+mod support;
+
 fn bench(c: &mut Criterion) {
     let tmp = tempfile::tempdir().expect("temporary folder");
-    furrow::demo::generate(tmp.path(), &furrow::demo::DemoOptions::default()).expect("demo");
-    // The demo plan points at ../models; the built-in copies are used instead.
-    let plan_path = tmp.path().join("plan.toml");
-    let plan = std::fs::read_to_string(&plan_path).expect("plan");
-    std::fs::write(&plan_path, plan.replace("dir = \"../models\"\n", "")).expect("plan");
+    let plan_path = support::demo_plan(tmp.path());
     let out = tmp.path().join("report");
     let mut g = c.benchmark_group("report");
     g.sample_size(10).measurement_time(Duration::from_secs(20));

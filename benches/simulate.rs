@@ -8,18 +8,12 @@ use criterion::{criterion_group, criterion_main, Criterion};
 use furrow::plan::Overrides;
 use std::time::Duration;
 
+mod support;
+
 fn bench(c: &mut Criterion) {
     let tmp = tempfile::tempdir().expect("temporary folder");
-    furrow::demo::generate(tmp.path(), &furrow::demo::DemoOptions::default()).expect("demo");
-    // The demo plan points at ../models; the built-in copies are used instead.
-    let plan = std::fs::read_to_string(tmp.path().join("plan.toml")).expect("plan");
-    std::fs::write(
-        tmp.path().join("plan.toml"),
-        plan.replace("dir = \"../models\"\n", ""),
-    )
-    .expect("plan");
-    let inputs = furrow::inputs::load::load(&tmp.path().join("plan.toml"), &Overrides::default())
-        .expect("inputs");
+    let plan = support::demo_plan(tmp.path());
+    let inputs = furrow::inputs::load::load(&plan, &Overrides::default()).expect("inputs");
     let model = furrow::simulate::prepare(&inputs).expect("model");
     let mut g = c.benchmark_group("simulate");
     g.sample_size(10).measurement_time(Duration::from_secs(15));

@@ -136,7 +136,7 @@ impl Factors {
 /// Where [`SiteSampler::draw_reusing`] copies each costly factor from:
 /// the index of an earlier sampler with the same distribution, or None to
 /// draw it.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
 pub struct Reuse {
     pub ctr: Option<usize>,
     pub volume: Option<usize>,
@@ -216,20 +216,7 @@ impl SiteSampler {
     /// shock month, CTR, volume, conversion rate (by inverse CDF), order
     /// value.
     pub fn draw(&self, rng: &mut Stream) -> SiteDraw {
-        let shock = uniform(rng) < self.shock_probability;
-        let shock_month_share = uniform(rng);
-        let ctr_factor = self.ctr.at(standard_normal(rng));
-        let volume_factor = self.volume.at(standard_normal(rng));
-        let conversion_rate = self.conversion.quantile(uniform(rng));
-        let order_value = self.order_value.at(standard_normal(rng));
-        SiteDraw {
-            shock,
-            shock_log_loss: if shock { self.shock_log_loss } else { 0.0 },
-            shock_month_share,
-            ctr_factor,
-            volume_factor,
-            conversion_rate,
-            order_value,
-        }
+        // Nothing to copy: every factor is drawn (`before` is never read).
+        self.draw_reusing(rng, &Reuse::default(), |_| &self.expected)
     }
 }

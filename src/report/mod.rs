@@ -325,44 +325,34 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
         },
     );
     let stress = stress?;
-    let Answers {
-        best,
-        target,
-        drivers,
-        tracking,
-        frontier,
-        net,
-        forecast,
-        clusters,
-        inputs: inputs_hashed,
-    } = rest?;
+    let a = rest?;
     let summary = Summary {
         plan: s.inputs.plan.name.clone(),
         currency: s.inputs.plan.currency.clone(),
-        decision: decision(&s, &chosen, target.as_ref()),
+        decision: decision(&s, &chosen, a.target.as_ref()),
         cautions: CAUTIONS.iter().map(|c| c.to_string()).collect(),
         check,
         baseline: s.baseline.output.clone(),
-        forecast,
-        clusters,
+        forecast: a.forecast,
+        clusters: a.clusters,
         allocation: chosen,
-        best_expected_return: best,
-        target,
+        best_expected_return: a.best,
+        target: a.target,
         stress,
-        drivers,
-        tracking,
-        frontier,
+        drivers: a.drivers,
+        tracking: a.tracking,
+        frontier: a.frontier,
         reproducibility: Reproducibility {
             tool_version: env!("CARGO_PKG_VERSION").to_string(),
             seed: s.inputs.plan.seed,
             scenarios: s.inputs.plan.scenarios,
-            inputs: inputs_hashed,
+            inputs: a.inputs,
             run_seconds: started.elapsed().as_secs_f64(),
             models: s.model.origins.clone(),
         },
         history: history(&s.inputs),
         economics: s.model.economics,
-        return_distribution: histogram::histogram(&net, HISTOGRAM_BINS),
+        return_distribution: histogram::histogram(&a.net, HISTOGRAM_BINS),
     };
     write_folder(&dir, &summary)?;
     let terminal = format!(

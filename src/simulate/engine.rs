@@ -121,7 +121,7 @@ struct Scratch {
 /// Runs the Monte Carlo.
 pub fn run(model: &Model, opts: &RunOptions) -> Result<Futures> {
     check_memory(model, opts.scenarios, opts.max_memory)?;
-    let site = draw_sites(model, opts)?;
+    let site = draw_sites(model, opts, &[])?;
     Ok(drive(model, opts, site, |sc, s, site, out, exec_out| {
         one_future(model, opts.seed, s, site, sc, out, exec_out)
     }))
@@ -188,15 +188,6 @@ fn site_sampler(model: &Model) -> Result<SiteSampler> {
         })
 }
 
-/// Every future's site-wide draws, from stream (seed, SITE, s).
-fn draw_sites(model: &Model, opts: &RunOptions) -> Result<Vec<SiteDraw>> {
-    let sampler = site_sampler(model)?;
-    Ok((0..opts.scenarios)
-        .into_par_iter()
-        .map(|s| sampler.draw(&mut stream(opts.seed, domain::SITE, s as u64)))
-        .collect())
-}
-
 /// The site draws of an earlier run (same seed and futures) and the
 /// sampler that drew them, for [`rerun`] to copy the factors it shares.
 #[derive(Clone, Copy)]
@@ -215,10 +206,11 @@ impl<'a> SiteSource<'a> {
     }
 }
 
-/// [`draw_sites`] for `model`, copying each factor whose distribution one
-/// of `earlier` shares ([`SiteSampler::draw_reusing`]), all of them when one
-/// sampler is the same. Same bits as [`draw_sites`].
-fn redraw_sites(model: &Model, opts: &RunOptions, earlier: &[SiteSource]) -> Result<Vec<SiteDraw>> {
+/// Every future's site-wide draws of `model`, from stream (seed, SITE, s),
+/// copying each factor whose distribution one of `earlier` (runs with the
+/// same seed and futures) shares ([`SiteSampler::draw_reusing`]), all of
+/// them when one sampler is the same: the same bits as drawing them all.
+fn draw_sites(model: &Model, opts: &RunOptions, earlier: &[SiteSource]) -> Result<Vec<SiteDraw>> {
     let sampler = site_sampler(model)?;
     if let Some(same) = earlier.iter().find(|e| e.sampler == sampler) {
         return Ok(same.draws.to_vec());
@@ -310,7 +302,7 @@ pub fn rerun(
             opts.scenarios, n, h
         )));
     }
-    let site = redraw_sites(model, opts, earlier)?;
+    let site = draw_sites(model, opts, earlier)?;
     Ok(drive(model, opts, site, |sc, s, site, out, exec_out| {
         rerun_future(model, opts.seed, plan, s, site, sc, out, exec_out)
     }))
