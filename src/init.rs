@@ -47,7 +47,7 @@ queries = "queries.csv"      # query, clicks, impressions, position (optional; f
 
 # If an export's headers differ from furrow's names, map them:
 # [inputs.columns.keywords]
-# volume = "Avg. monthly searches"
+# volume = "Searches per month"
 
 [models]
 dir = "models"               # folder with ctr/, rank-gain/ and stress/

@@ -116,21 +116,18 @@ fn several_problems_are_all_reported() {
 fn column_mapping_reads_differently_named_headers() {
     let (_t, dir) = project();
     let text = std::fs::read_to_string(dir.join("keywords.csv")).unwrap();
-    let renamed = text.replacen("volume", "Avg monthly searches", 1);
+    let renamed = text.replacen("volume", "Searches per month", 1);
     write(&dir, "keywords.csv", renamed.as_bytes());
     let o = check(&dir);
     assert_refused(
         &o,
         "keywords.csv",
-        &[
-            "missing the required column 'volume'",
-            "Avg monthly searches",
-        ],
+        &["missing the required column 'volume'", "Searches per month"],
     );
     let plan = std::fs::read_to_string(dir.join("plan.toml")).unwrap();
     let plan = plan.replace(
         "[models]",
-        "[inputs.columns.keywords]\nvolume = \"avg monthly searches\"\n\n[models]",
+        "[inputs.columns.keywords]\nvolume = \"searches per month\"\n\n[models]",
     );
     write(&dir, "plan.toml", plan.as_bytes());
     let o = check(&dir);

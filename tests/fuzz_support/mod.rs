@@ -67,8 +67,8 @@ pub fn read_csv(selector: u8, path: &Path) -> Result<(), Error> {
             monthly::NON_NEGATIVE,
         )
         .map(drop),
-        "keywords" => keywords::read(path, &map(&[("volume", "Avg. monthly searches")])).map(drop),
-        "queries" => queries::read(path, &map(&[("query", "Top queries")])).map(drop),
+        "keywords" => keywords::read(path, &map(&[("volume", "Searches per month")])).map(drop),
+        "queries" => queries::read(path, &map(&[("query", "Search query")])).map(drop),
         "clusters" => clusters::read(path, &map(&[("cost", "price")])).map(drop),
         "returns" => scenarios::read_returns(path).map(drop),
         _ => scenarios::read_costs(path).map(drop),
