@@ -46,6 +46,25 @@ pub struct Summary {
     pub warnings: Vec<String>,
 }
 
+/// Reads every model file the plan uses (click-through curves, rank-gain
+/// constants, the stress presets a report runs) and the economics, so that
+/// `check` finds a broken model file instead of a run halfway through.
+pub fn models(inp: &Inputs) -> crate::error::Result<()> {
+    crate::simulate::prepare(inp)?;
+    let names: Vec<String> = match &inp.plan.file.models.stress {
+        Some(list) => list.clone(),
+        None => crate::stress::PRESET_NAMES
+            .iter()
+            .map(|n| n.to_string())
+            .collect(),
+    };
+    for name in names {
+        let text = crate::model_files::find(&inp.plan, "stress", &name)?;
+        crate::stress::StressPreset::from_toml_str(&text.text, &text.origin)?;
+    }
+    Ok(())
+}
+
 /// Summarises loaded inputs.
 pub fn summarise(inp: &Inputs) -> Summary {
     let kws = &inp.keywords.keywords;
@@ -92,10 +111,11 @@ pub fn summarise(inp: &Inputs) -> Summary {
 }
 
 fn cluster_summaries(inp: &Inputs) -> Vec<ClusterSummary> {
+    let grouped = inp.keywords.grouped();
     inp.clusters
         .iter()
         .map(|c| {
-            let ks: Vec<_> = inp.keywords.of_cluster(&c.name).collect();
+            let ks: &[_] = grouped.get(c.name.as_str()).map_or(&[], Vec::as_slice);
             let n = ks.len().max(1) as f64;
             ClusterSummary {
                 name: c.name.clone(),
@@ -112,7 +132,12 @@ fn cluster_summaries(inp: &Inputs) -> Vec<ClusterSummary> {
 
 /// The summary as text for the terminal.
 pub fn render(s: &Summary) -> String {
-    let mut out = format!("Plan '{}': inputs read, no problems found.\n\n", s.plan);
+    let found = match s.warnings.len() {
+        0 => "no problems found".to_string(),
+        1 => "1 warning (listed at the end)".to_string(),
+        n => format!("{n} warnings (listed at the end)"),
+    };
+    let mut out = format!("Plan '{}': inputs read, {found}.\n\n", s.plan);
     out += &format!(
         "History: {} months, {} to {}; clicks in the last 12 months: {}\n",
         s.history_months,

@@ -429,6 +429,9 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
     match cli.command {
         Command::Check { plan } => {
             let inputs = furrow::inputs::load::load(&plan, &Overrides::default())?;
+            // The model files and the economics are read too, so a broken
+            // model file is found here and not halfway through a report.
+            furrow::check::models(&inputs)?;
             out(&furrow::check::render(&furrow::check::summarise(&inputs)))?;
         }
         Command::Init { dir } => {

@@ -194,6 +194,16 @@ const MODIFIERS: &[&str] = &[
     "square foot",
 ];
 
+/// The files [`generate`] writes into its folder.
+pub const FILES: &[&str] = &[
+    "history.csv",
+    "interest.csv",
+    "keywords.csv",
+    "queries.csv",
+    "actuals.csv",
+    "plan.toml",
+];
+
 /// Writes the demo (plan and inputs) into `dir`.
 pub fn generate(dir: &Path, opts: &DemoOptions) -> Result<()> {
     let mut rng = stream(opts.seed, domain::DEMO, 0);

@@ -139,6 +139,14 @@ pub enum Error {
         path: PathBuf,
         source: std::io::Error,
     },
+    /// An output folder furrow refuses to write to (it would replace what
+    /// furrow did not write).
+    #[error("cannot write {what} to {path}: {message}")]
+    Output {
+        what: &'static str,
+        path: PathBuf,
+        message: String,
+    },
     /// A problem in the plan file (TOML).
     #[error("{file}, line {line}, column {column}: {message}")]
     Plan {
@@ -151,7 +159,7 @@ pub enum Error {
     #[error("{0}")]
     Setting(String),
     /// A model file under models/ is invalid.
-    #[error("model file {origin}: {message}")]
+    #[error("model file {origin}: {}", without_origin(origin, message))]
     Model { origin: String, message: String },
     /// The data cannot support what was asked (too little history, ...).
     #[error("{0}")]
@@ -172,6 +180,14 @@ pub enum Error {
     /// The allocation could not be solved (exit 3 when infeasible).
     #[error(transparent)]
     Allocate(#[from] crate::allocate::AllocError),
+}
+
+/// A message without a leading "ORIGIN: " that the error already names.
+fn without_origin<'a>(origin: &str, message: &'a str) -> &'a str {
+    message
+        .strip_prefix(origin)
+        .and_then(|m| m.strip_prefix(": "))
+        .unwrap_or(message)
 }
 
 impl Error {
@@ -229,6 +245,18 @@ mod tests {
     #[test]
     fn exit_codes() {
         assert_eq!(Error::Infeasible("x".into()).exit_code(), 3);
+    }
+
+    #[test]
+    fn a_model_error_names_its_file_once() {
+        let e = Error::Model {
+            origin: "m/ctr/a.toml".into(),
+            message: "m/ctr/a.toml: cannot read the model: bad".into(),
+        };
+        assert_eq!(
+            e.to_string(),
+            "model file m/ctr/a.toml: cannot read the model: bad"
+        );
         assert_eq!(Error::Setting("x".into()).exit_code(), 2);
         assert_eq!(Error::input("f", None, None, "x").exit_code(), 1);
     }

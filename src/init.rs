@@ -6,14 +6,36 @@ use crate::error::{Error, Result};
 use crate::fsio::write_text;
 use std::path::Path;
 
-/// Writes the template into `dir` (refusing to overwrite an existing plan).
+/// Writes the template into `dir`, refusing when any file it would write
+/// is there already (nothing the user has is ever overwritten).
 pub fn init(dir: &Path) -> Result<()> {
     let plan = dir.join("plan.toml");
-    if plan.exists() {
-        return Err(Error::Setting(format!(
-            "{} already exists; choose an empty folder so nothing is overwritten",
-            plan.display()
-        )));
+    let taken: Vec<String> = demo::FILES
+        .iter()
+        .map(|f| dir.join(f))
+        .chain(
+            crate::model_files::BUILTIN
+                .iter()
+                .map(|(rel, _)| dir.join("models").join(rel)),
+        )
+        .filter(|p| std::fs::symlink_metadata(p).is_ok())
+        .map(|p| p.display().to_string())
+        .collect();
+    if !taken.is_empty() {
+        let more = taken.len().saturating_sub(5);
+        let more = if more > 0 {
+            format!(" and {more} more")
+        } else {
+            String::new()
+        };
+        return Err(Error::Output {
+            what: "the plan template",
+            path: dir.to_path_buf(),
+            message: format!(
+                "{}{more} already exist; furrow init never overwrites a file: choose a new or empty folder",
+                taken.iter().take(5).cloned().collect::<Vec<_>>().join(", ")
+            ),
+        });
     }
     let opts = DemoOptions {
         keywords: 160,

@@ -177,7 +177,7 @@ pub struct ClusterCfg {
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct PlanFile {
-    pub name: Option<String>,
+    pub name: Option<Spanned<String>>,
     pub currency: Option<String>,
     pub start: Option<Spanned<String>>,
     pub horizon: Option<Spanned<i64>>,
@@ -217,6 +217,8 @@ pub struct Plan {
     pub name: String,
     /// The raw text (for line and column of later problems).
     pub text: String,
+    /// Where each line of `text` starts (line and column in O(log n)).
+    pub lines: LineIndex,
     /// The parsed file.
     pub file: PlanFile,
     /// Forecast start (None: the month after the last history month).
@@ -302,11 +304,15 @@ fn build(path: &Path, text: String, file: PlanFile) -> Result<Plan> {
     } else {
         dir
     };
-    let name = file.name.clone().unwrap_or_else(|| {
-        path.file_stem()
-            .map(|s| s.to_string_lossy().to_string())
-            .unwrap_or_else(|| "plan".into())
-    });
+    let name = file
+        .name
+        .as_ref()
+        .map(|n| n.get_ref().clone())
+        .unwrap_or_else(|| {
+            path.file_stem()
+                .map(|s| s.to_string_lossy().to_string())
+                .unwrap_or_else(|| "plan".into())
+        });
     let mut plan = Plan {
         path: path.to_path_buf(),
         dir,
@@ -319,12 +325,79 @@ fn build(path: &Path, text: String, file: PlanFile) -> Result<Plan> {
         tail_level: DEFAULT_TAIL_LEVEL,
         budget: *file.budget.total.get_ref(),
         max_tail_loss: None,
+        lines: LineIndex::new(&text),
         text,
         file,
     };
     let mut issues = Issues::default();
     plan.check(&mut issues);
     issues.into_result(plan)
+}
+
+/// Longest plan name in bytes: the report folder's temporary name adds
+/// about twenty bytes, and file systems allow 255.
+pub const MAX_NAME_BYTES: usize = 200;
+
+/// Checks that a plan name can be the report folder's name: one path
+/// component, not empty, `.` or `..`, with no separator or control
+/// character, at most [`MAX_NAME_BYTES`] bytes.
+pub fn check_folder_name(name: &str) -> std::result::Result<(), String> {
+    let shown: String = name.chars().flat_map(char::escape_debug).take(60).collect();
+    let why = if name.trim().is_empty() {
+        "the name is empty".to_string()
+    } else if name == "." || name == ".." {
+        format!("the name '{name}' is not a folder name")
+    } else if name.contains(['/', '\\']) {
+        format!("the name '{shown}' holds a path separator")
+    } else if name.chars().any(char::is_control) {
+        format!("the name '{shown}' holds a control character")
+    } else if name.trim() != name {
+        format!("the name '{shown}' starts or ends with a space")
+    } else if name.len() > MAX_NAME_BYTES {
+        format!("the name is {} bytes long", name.len())
+    } else {
+        return Ok(());
+    };
+    Err(format!("{why}; the plan's name becomes the report folder reports/<name>/, so it must be one folder name: not empty, '.' or '..', without '/', '\\' or control characters, at most {MAX_NAME_BYTES} bytes (for example name = \"my-site-2027\")"))
+}
+
+/// The byte offset where each line of a text starts, so that many
+/// problems in a long plan each find their line by a binary search instead
+/// of counting from the top (loading stays linear in the plan's size).
+#[derive(Debug, Clone, Default)]
+pub struct LineIndex {
+    starts: Vec<usize>,
+}
+
+impl LineIndex {
+    /// Indexes `text`.
+    pub fn new(text: &str) -> LineIndex {
+        let starts = std::iter::once(0)
+            .chain(text.match_indices('\n').map(|(i, _)| i + 1))
+            .collect();
+        LineIndex { starts }
+    }
+
+    /// Line and 1-based column (in characters) of byte `pos` in `text`,
+    /// the text this index was made from.
+    pub fn line_col(&self, text: &str, pos: usize) -> (usize, usize) {
+        let pos = pos.min(text.len());
+        let line = self.starts.partition_point(|&s| s <= pos).max(1);
+        let start = self.starts.get(line - 1).copied().unwrap_or(0).min(pos);
+        let col = text
+            .get(start..pos)
+            .map(|l| l.chars().count())
+            .unwrap_or(pos - start)
+            + 1;
+        (line, col)
+    }
+}
+
+impl Plan {
+    /// Line and 1-based column of byte `pos` of the plan's text.
+    pub fn line_col(&self, pos: usize) -> (usize, usize) {
+        self.lines.line_col(&self.text, pos)
+    }
 }
 
 /// Line and 1-based column of byte `pos` in `text`.
@@ -342,14 +415,50 @@ pub fn line_col(text: &str, pos: usize) -> (usize, usize) {
 }
 
 fn toml_error(file: &str, text: &str, e: &toml::de::Error) -> Error {
-    let (line, column) = e.span().map(|s| line_col(text, s.start)).unwrap_or((1, 1));
     let raw = e.message().trim().to_string();
+    if e.span().is_none() && raw.contains("recursion limit") {
+        // The parser gives no place for this one: point at the deepest line.
+        let (line, depth) = deepest_line(text);
+        return Error::Plan {
+            file: file.to_string(),
+            line,
+            column: 1,
+            message: format!("a key or value nested {depth} levels deep, more than the parser allows; a plan nests only a few levels, such as [inputs.columns.keywords]"),
+        };
+    }
+    let (line, column) = e.span().map(|s| line_col(text, s.start)).unwrap_or((1, 1));
     Error::Plan {
         file: file.to_string(),
         line,
         column,
         message: plain_words(&suggest(&raw)),
     }
+}
+
+/// The 1-based line whose key or value nests deepest (dots in a dotted
+/// key, or open brackets and braces), and that depth.
+fn deepest_line(text: &str) -> (usize, usize) {
+    let mut best = (1, 0);
+    let mut open: usize = 0;
+    for (i, line) in text.lines().enumerate() {
+        let code = line.split('#').next().unwrap_or("");
+        let key = code.split('=').next().unwrap_or("");
+        let mut depth = key.matches('.').count() + 1;
+        for ch in code.chars() {
+            match ch {
+                '[' | '{' => {
+                    open += 1;
+                    depth = depth.max(open);
+                }
+                ']' | '}' => open = open.saturating_sub(1),
+                _ => {}
+            }
+        }
+        if depth > best.1 {
+            best = (i + 1, depth);
+        }
+    }
+    best
 }
 
 /// Rewrites the parser's type names and "missing field" into the words
@@ -366,6 +475,14 @@ fn plain_words(msg: &str) -> String {
         .replace("expected i64", "expected a whole number")
         .replace("expected u64", "expected a whole number of 0 or more")
         .replace("expected a boolean", "expected true or false");
+    if msg.contains("untagged enum SeasonalityCfg") {
+        return "expected \"history\", \"none\" or a list of 12 monthly numbers, January first"
+            .to_string();
+    }
+    if msg.contains("untagged enum Amount") {
+        return "expected an amount (a number) or a share of the budget as text, such as \"10%\""
+            .to_string();
+    }
     if msg == "duplicate key" {
         return "duplicate key; expected each key once".to_string();
     }
@@ -398,7 +515,7 @@ fn suggest(raw: &str) -> String {
 
 impl Plan {
     fn issue(&self, issues: &mut Issues, span: std::ops::Range<usize>, key: &str, msg: String) {
-        let (line, col) = line_col(&self.text, span.start);
+        let (line, col) = self.line_col(span.start);
         issues.add(
             &self.path.display().to_string(),
             Some(line as u64),
@@ -436,6 +553,17 @@ impl Plan {
     }
 
     fn check(&mut self, issues: &mut Issues) {
+        if let Err(why) = check_folder_name(&self.name) {
+            match &self.file.name {
+                Some(n) => self.issue(issues, n.span(), "name", why),
+                None => issues.add(
+                    &self.path.display().to_string(),
+                    None,
+                    Some(("name", 0)),
+                    format!("{why} (the name comes from the plan file's name; set name = \"...\" in the plan)"),
+                ),
+            }
+        }
         if let Some(s) = &self.file.start {
             match Month::parse(s.get_ref()) {
                 Some(m) => self.start = Some(m),
@@ -833,6 +961,74 @@ fn resolve_amount(a: &Amount, budget: f64) -> std::result::Result<f64, String> {
 
 #[cfg(test)]
 mod tests {
+    fn plan_with(extra: &str) -> Result<Plan> {
+        let dir = tempfile::tempdir().expect("tmp");
+        let p = dir.path().join("plan.toml");
+        std::fs::write(&p, format!("{extra}\n[budget]\ntotal = 100\n")).expect("write");
+        load(&p)
+    }
+
+    /// True when the plan with this name has no problem at its name.
+    fn name_ok(name: &str) -> bool {
+        match plan_with(&format!("name = \"{name}\"")) {
+            Ok(_) => true,
+            Err(e) => !e.to_string().contains("('name')"),
+        }
+    }
+
+    #[test]
+    fn plan_name_that_is_a_path_is_refused_at_its_line() {
+        for bad in [
+            "/abs/path",
+            "../../x",
+            "",
+            ".",
+            "..",
+            "a\\b",
+            "tab\there",
+            " x",
+        ] {
+            let toml_name = bad.replace('\\', "\\\\").replace('\t', "\\t");
+            let e = plan_with(&format!("\n\nname = \"{toml_name}\"")).expect_err(bad);
+            let text = e.to_string();
+            assert!(
+                text.contains("line 3, column 8 ('name')"),
+                "{bad:?}: {text}"
+            );
+            assert!(text.contains("one folder name"), "{bad:?}: {text}");
+        }
+        assert!(name_ok("garden-2027 (draft)"));
+    }
+
+    #[test]
+    fn plan_name_of_more_than_two_hundred_bytes_is_refused() {
+        let long = "x".repeat(MAX_NAME_BYTES + 1);
+        let e = plan_with(&format!("name = \"{long}\"")).expect_err("too long");
+        assert!(e.to_string().contains("bytes long"), "{e}");
+        assert!(name_ok(&"x".repeat(MAX_NAME_BYTES)));
+    }
+
+    #[test]
+    fn a_deeply_nested_key_is_placed_at_its_line() {
+        let deep = vec!["a"; 300].join(".");
+        let e =
+            plan_with(&format!("seed = 1\ncurrency = \"EUR\"\n{deep} = 1")).expect_err("too deep");
+        let text = e.to_string();
+        assert!(text.contains("line 3, column 1"), "{text}");
+        assert!(text.contains("300 levels deep"), "{text}");
+    }
+
+    #[test]
+    fn seasonality_of_the_wrong_shape_is_refused_in_plain_words() {
+        let e = plan_with("[economics]\nseasonality = { a = 1 }").expect_err("bad shape");
+        let text = e.to_string();
+        assert!(
+            text.contains("\"history\", \"none\" or a list of 12"),
+            "{text}"
+        );
+        assert!(!text.contains("untagged"), "{text}");
+    }
+
     use super::*;
 
     #[test]
@@ -873,6 +1069,21 @@ mod tests {
     fn line_and_column_of_a_byte() {
         assert_eq!(line_col("ab\ncd\nef", 4), (2, 2));
         assert_eq!(line_col("ab", 0), (1, 1));
+    }
+
+    #[test]
+    fn the_line_index_agrees_with_counting_from_the_top() {
+        let text = "a = 1\n\nname = \"é\u{e9}x\"\n[[cluster]]\nz";
+        let index = LineIndex::new(text);
+        for pos in 0..=text.len() + 2 {
+            if text.is_char_boundary(pos.min(text.len())) {
+                assert_eq!(
+                    index.line_col(text, pos),
+                    line_col(text, pos),
+                    "at byte {pos}"
+                );
+            }
+        }
     }
 
     #[test]

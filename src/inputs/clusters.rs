@@ -115,7 +115,7 @@ pub fn from_plan(plan: &Plan) -> Vec<ClusterSpec> {
 }
 
 fn from_cfg(plan: &Plan, c: &ClusterCfg) -> ClusterSpec {
-    let (line, col) = crate::plan::line_col(&plan.text, c.name.span().start);
+    let (line, col) = plan.line_col(c.name.span().start);
     let file = plan.path.display().to_string();
     ClusterSpec {
         name: c.name.get_ref().clone(),
@@ -327,10 +327,14 @@ fn group(
     issues: &mut Issues,
 ) -> Vec<ClusterSpec> {
     let mut by: Vec<(String, Vec<Row>)> = Vec::new();
+    let mut at: std::collections::HashMap<String, usize> = std::collections::HashMap::new();
     for r in rows {
-        match by.iter_mut().find(|(n, _)| *n == r.cluster) {
-            Some((_, v)) => v.push(r),
-            None => by.push((r.cluster.clone(), vec![r])),
+        match at.get(&r.cluster) {
+            Some(&i) => by[i].1.push(r),
+            None => {
+                at.insert(r.cluster.clone(), by.len());
+                by.push((r.cluster.clone(), vec![r]));
+            }
         }
     }
     let (cluster_col, tier_col) = columns;

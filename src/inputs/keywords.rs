@@ -224,4 +224,21 @@ impl KeywordSet {
             .map(|i| i as u32);
         self.keywords.iter().filter(move |k| Some(k.cluster) == id)
     }
+
+    /// The keywords of every cluster, in file order, found in one pass (for
+    /// callers that visit every cluster: [`Self::of_cluster`] per cluster
+    /// would be quadratic).
+    pub fn grouped(&self) -> HashMap<&str, Vec<&Keyword>> {
+        let mut members: Vec<Vec<&Keyword>> = vec![Vec::new(); self.clusters.len()];
+        for k in &self.keywords {
+            if let Some(m) = members.get_mut(k.cluster as usize) {
+                m.push(k);
+            }
+        }
+        self.clusters
+            .iter()
+            .map(String::as_str)
+            .zip(members)
+            .collect()
+    }
 }

@@ -198,12 +198,18 @@ fn optional<T>(
 }
 
 fn merge_clusters(clusters: &mut Vec<ClusterSpec>, more: Vec<ClusterSpec>, issues: &mut Issues) {
+    let mut at: std::collections::HashMap<String, usize> = clusters
+        .iter()
+        .enumerate()
+        .map(|(i, c)| (c.name.clone(), i))
+        .collect();
     for c in more {
-        if let Some(prev) = clusters.iter().find(|p| p.name == c.name) {
+        if let Some(prev) = at.get(&c.name).map(|&i| &clusters[i]) {
             let msg = format!("the cluster '{}' is defined both in the plan ({}) and in the cluster file ({}); define it once", c.name, prev.origin, c.origin);
             let (file, line, (key, col)) = &prev.defined_at;
             issues.add(file, Some(*line), Some((key, *col)), msg);
         } else {
+            at.insert(c.name.clone(), clusters.len());
             clusters.push(c);
         }
     }
@@ -227,6 +233,7 @@ impl Inputs {
         if n < SEASONAL_HISTORY {
             self.warnings.push(format!("only {n} months of history: seasonal models need {SEASONAL_HISTORY} (two full seasons) and are unavailable"));
         }
+        self.check_outliers();
         let after = self.history.last().map(|m| m.plus(1));
         self.start = match (self.plan.start, after) {
             (Some(s), Some(a)) => {
@@ -243,14 +250,39 @@ impl Inputs {
         };
     }
 
+    /// Warns of months far from their neighbours and season, in every
+    /// numeric column of the history (see [`super::outliers`]).
+    fn check_outliers(&mut self) {
+        let Some(first) = self.history.first() else {
+            return;
+        };
+        for (column, values) in &self.history.columns {
+            for o in super::outliers::find(values, first) {
+                let month = first.plus(o.index as i32);
+                self.warnings.push(format!(
+                    "{}, column '{column}', month {month}: {} is far from the months around it (about {} expected from its neighbours and its season; {:.0} robust deviations, the limit is {:.0}); check the export, as a forecast follows such a month",
+                    self.history.file,
+                    crate::text::int(o.value),
+                    crate::text::int(o.expected),
+                    o.deviations.min(1e6),
+                    super::outliers::LIMIT,
+                ));
+            }
+        }
+    }
+
     fn check_clusters(&mut self, issues: &mut Issues, clusters_unread: bool) {
         let plan_file = self.plan.path.display().to_string();
         if self.clusters.is_empty() && !clusters_unread {
             issues.add(&plan_file, None, None, "the plan defines no clusters to fund; add [[cluster]] tables with tiers (or [inputs] clusters = \"FILE\")");
         }
+        let in_keywords: std::collections::HashSet<&String> =
+            self.keywords.clusters.iter().collect();
+        let funded: std::collections::HashSet<&String> =
+            self.clusters.iter().map(|c| &c.name).collect();
         for c in &self.clusters {
             let (file, line, (key, col)) = &c.defined_at;
-            if !self.keywords.clusters.contains(&c.name) {
+            if !in_keywords.contains(&c.name) {
                 let known = self
                     .keywords
                     .clusters
@@ -274,14 +306,19 @@ impl Inputs {
             .keywords
             .clusters
             .iter()
-            .filter(|k| !self.clusters.iter().any(|c| &c.name == *k))
+            .filter(|k| !funded.contains(k))
             .collect();
         if !unfunded.is_empty() {
             let n: usize = self
                 .keywords
                 .keywords
                 .iter()
-                .filter(|k| unfunded.contains(&&self.keywords.clusters[k.cluster as usize]))
+                .filter(|k| {
+                    self.keywords
+                        .clusters
+                        .get(k.cluster as usize)
+                        .is_some_and(|name| !funded.contains(name))
+                })
                 .count();
             self.warnings.push(format!("{n} keywords in {} clusters without funding tiers are not simulated (they stay in the baseline): {}", unfunded.len(), unfunded.iter().take(5).map(|s| s.as_str()).collect::<Vec<_>>().join(", ")));
         }

@@ -8,6 +8,7 @@ pub mod keywords;
 pub mod load;
 pub mod monthly;
 pub mod number;
+pub mod outliers;
 pub mod queries;
 pub mod scenarios;
 pub mod table;

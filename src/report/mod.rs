@@ -12,6 +12,7 @@
 mod assumptions;
 mod charts;
 mod figures;
+pub mod folder;
 pub mod histogram;
 pub mod html;
 mod risk;
@@ -130,6 +131,19 @@ fn hash_file(p: &Path) -> Result<String> {
         .iter()
         .map(|b| format!("{b:02x}"))
         .collect())
+}
+
+/// The plan, its input files and its models folder: never inside a folder
+/// the report replaces.
+fn protected_paths(inputs: &Inputs) -> Vec<PathBuf> {
+    let plan = &inputs.plan;
+    let mut paths: Vec<PathBuf> = inputs.files.iter().map(|(_, p)| p.clone()).collect();
+    paths.push(plan.path.clone());
+    match &plan.file.models.dir {
+        Some(d) => paths.push(plan.resolve(d)),
+        None => paths.push(plan.dir.join("models")),
+    }
+    paths
 }
 
 /// Bins asked for in the net-return histogram (about; the width is rounded
@@ -265,6 +279,9 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
         .out
         .map(Path::to_path_buf)
         .unwrap_or_else(|| PathBuf::from("reports").join(&inputs.plan.name));
+    let protected = protected_paths(&inputs);
+    // Refused before any work: a folder furrow may not replace.
+    folder::check_destination(&dir, &protected)?;
     let check = check::summarise(&inputs);
     let s = pipeline::simulate(
         inputs,
@@ -354,7 +371,7 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
         economics: s.model.economics,
         return_distribution: histogram::histogram(&a.net, HISTOGRAM_BINS),
     };
-    write_folder(&dir, &summary)?;
+    write_folder(&dir, &summary, &protected)?;
     let terminal = format!(
         "{}\n\nReport written to {}/ (index.html, summary.txt, summary.json, CSV tables and furrow-plan.xlsx).\n",
         summary.decision,
@@ -467,25 +484,24 @@ fn text_summary(sm: &Summary) -> String {
     t
 }
 
-fn write_folder(dir: &Path, sm: &Summary) -> Result<()> {
-    let parent = dir
-        .parent()
-        .filter(|p| !p.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let name = dir
-        .file_name()
-        .map(|n| n.to_string_lossy().to_string())
-        .unwrap_or_else(|| "report".into());
-    remove_stale(parent, &name);
-    let tmp = parent.join(format!(".{name}.tmp-{}", std::process::id()));
-    let werr = |p: &Path| {
-        let p = p.to_path_buf();
-        move |source| Error::Write { path: p, source }
-    };
-    std::fs::create_dir_all(&tmp).map_err(werr(&tmp))?;
-    let result = write_files(&tmp, sm).and_then(|_| swap_in(&tmp, dir));
-    if result.is_err() {
-        let _ = std::fs::remove_dir_all(&tmp);
+/// Writes the report into a temporary folder beside `dir` and puts it in
+/// place (see [`folder`]); on failure the temporary folder is removed and
+/// whatever was at `dir` is left as it was.
+fn write_folder(dir: &Path, sm: &Summary, protected: &[PathBuf]) -> Result<()> {
+    folder::remove_stale(dir);
+    let tmp = folder::temp_dir(dir);
+    let result = std::fs::create_dir(&tmp)
+        .map_err(|source| Error::Write {
+            path: dir.to_path_buf(),
+            source,
+        })
+        .and_then(|_| write_text(&tmp.join(folder::MARKER), &folder::marker_text(&sm.plan)))
+        .and_then(|_| write_files(&tmp, sm))
+        .map_err(|e| folder::name_the_folder(e, &tmp, dir))
+        .and_then(|_| folder::swap_in(&tmp, dir, protected));
+    if result.is_err() && tmp.exists() {
+        let _ = folder::remove_report(&tmp);
+        let _ = std::fs::remove_dir(&tmp);
     }
     result
 }
@@ -536,79 +552,4 @@ fn write_text_files(tmp: &Path, sm: &Summary) -> Result<()> {
         write_text(&tmp.join("tracking.csv"), &csv::to_string(&t.rows())?)?;
     }
     Ok(())
-}
-
-/// Replaces `dir` by `tmp`. On Linux the two names are exchanged in one
-/// atomic step (renameat2 with RENAME_EXCHANGE), so a reader or an
-/// interrupt sees either the whole old report or the whole new one; the old
-/// one, now under the temporary name, is removed afterwards. Elsewhere, or
-/// on a file system without the exchange, the old folder is renamed aside
-/// first and put back if the second rename fails.
-fn swap_in(tmp: &Path, dir: &Path) -> Result<()> {
-    let werr = |source| Error::Write {
-        path: dir.to_path_buf(),
-        source,
-    };
-    if dir.exists() && exchange(tmp, dir) {
-        let _ = std::fs::remove_dir_all(tmp);
-        return Ok(());
-    }
-    let old = dir.with_file_name(format!(
-        ".{}.old-{}",
-        dir.file_name()
-            .map(|n| n.to_string_lossy().to_string())
-            .unwrap_or_default(),
-        std::process::id()
-    ));
-    let had_old = dir.exists();
-    if had_old {
-        std::fs::rename(dir, &old).map_err(werr)?;
-    }
-    if let Err(source) = std::fs::rename(tmp, dir) {
-        if had_old {
-            let _ = std::fs::rename(&old, dir);
-        }
-        return Err(werr(source));
-    }
-    if had_old {
-        let _ = std::fs::remove_dir_all(&old);
-    }
-    Ok(())
-}
-
-/// Exchanges two directory names atomically; false where the system or
-/// the file system cannot.
-#[cfg(target_os = "linux")]
-fn exchange(a: &Path, b: &Path) -> bool {
-    use rustix::fs::{renameat_with, RenameFlags, CWD};
-    renameat_with(CWD, a, CWD, b, RenameFlags::EXCHANGE).is_ok()
-}
-
-#[cfg(not(target_os = "linux"))]
-fn exchange(_a: &Path, _b: &Path) -> bool {
-    false
-}
-
-/// Removes what an interrupted run left beside the report folder: its
-/// temporary folders (`.<name>.tmp-<pid>`, `.<name>.old-<pid>`) whose
-/// process no longer runs. Where it cannot tell whether a process runs
-/// (no /proc), it leaves them.
-fn remove_stale(parent: &Path, name: &str) {
-    let Ok(entries) = std::fs::read_dir(parent) else {
-        return;
-    };
-    let proc_fs = Path::new("/proc/self").exists();
-    for e in entries.flatten() {
-        let file = e.file_name().to_string_lossy().to_string();
-        let pid = [".tmp-", ".old-"].iter().find_map(|tag| {
-            file.strip_prefix(&format!(".{name}{tag}"))
-                .and_then(|p| p.parse::<u32>().ok())
-        });
-        if let Some(pid) = pid {
-            let gone = proc_fs && !Path::new(&format!("/proc/{pid}")).exists();
-            if gone && pid != std::process::id() {
-                let _ = std::fs::remove_dir_all(e.path());
-            }
-        }
-    }
 }

@@ -129,10 +129,38 @@ impl Model {
     }
 }
 
+/// A model file's problem names that file; any other problem of the click
+/// models (data too short for a seasonal shape, ...) is not about a model
+/// file and says so in its own words.
 fn model_err(e: crate::clicks::ClicksError) -> Error {
-    Error::Model {
-        origin: "model".into(),
-        message: e.to_string(),
+    use crate::clicks::ClicksError as C;
+    match &e {
+        C::Parse { origin, .. } | C::Invalid { origin, .. } => Error::Model {
+            origin: origin.clone(),
+            message: e.to_string(),
+        },
+        _ => Error::Unsupported(e.to_string()),
+    }
+}
+
+/// A problem of a value the plan (or a cluster file) gave, named at `key`
+/// of `file`.
+fn plan_err<'a>(
+    file: &'a str,
+    key: &'static str,
+) -> impl Fn(crate::clicks::ClicksError) -> Error + 'a {
+    move |e| {
+        use crate::clicks::ClicksError as C;
+        let text = e.to_string();
+        let text = match &e {
+            C::Invalid { origin, .. } | C::Parse { origin, .. } => text
+                .strip_prefix(origin.as_str())
+                .and_then(|t| t.strip_prefix(": "))
+                .map(str::to_string)
+                .unwrap_or(text),
+            _ => text,
+        };
+        Error::input(file, None, Some((key, 0)), &text)
     }
 }
 
@@ -167,6 +195,7 @@ fn load_models(inputs: &Inputs) -> Result<LoadedModels> {
 /// The plan's economics as a typed model.
 pub fn economics(inputs: &Inputs) -> Result<Economics> {
     let e = &inputs.plan.file.economics;
+    let plan_file = inputs.plan.path.display().to_string();
     let v = |x: &Option<toml::Spanned<f64>>| x.as_ref().map(|s| *s.get_ref());
     let margin = v(&e.gross_margin).unwrap_or(1.0);
     let built = if let Some(vpc) = v(&e.value_per_click) {
@@ -181,13 +210,13 @@ pub fn economics(inputs: &Inputs) -> Result<Economics> {
                 ))
             }
         }
-        .map_err(model_err)?;
+        .map_err(plan_err(&plan_file, "economics"))?;
         let aov = v(&e.order_value)
             .ok_or_else(|| Error::Setting("[economics] needs order_value".into()))?;
         OrderValue::new(aov, v(&e.order_value_spread))
             .and_then(|ov| Economics::new(rate, ov, margin))
     };
-    built.map_err(model_err)
+    built.map_err(plan_err(&plan_file, "economics"))
 }
 
 fn seasonality(inputs: &Inputs) -> Result<Seasonality> {
@@ -202,7 +231,8 @@ fn seasonality(inputs: &Inputs) -> Result<Seasonality> {
             Seasonality::from_history(clicks, first)
         }
     };
-    res.map_err(model_err)
+    let plan_file = inputs.plan.path.display().to_string();
+    res.map_err(plan_err(&plan_file, "seasonality"))
 }
 
 fn tier_gains(spec: &ClusterSpec) -> Result<Vec<TierGain>> {
@@ -231,25 +261,25 @@ fn explicit(shape: GainShape, over: GainOver, origin: &str) -> Result<ExplicitGa
             lambda,
         } => GainDistribution::pert(min, mode, max, Some(lambda)),
     }
-    .map_err(model_err)?;
+    .map_err(plan_err(origin, "gain"))?;
     let over = match over {
         GainOver::PositionsGained => GainScale::PositionsGained,
         GainOver::FinalPosition => GainScale::FinalPosition,
     };
     let g = ExplicitGain { over, distribution };
-    g.validate(origin).map_err(model_err)?;
+    g.validate(origin).map_err(plan_err(origin, "gain"))?;
     Ok(g)
 }
 
 fn cluster_model(
     inputs: &Inputs,
+    members: &[&crate::inputs::keywords::Keyword],
     spec: &ClusterSpec,
     rank: &RankGainModel,
 ) -> Result<ClusterModel> {
     let gains = tier_gains(spec)?;
-    let keywords: Vec<KeywordModel> = inputs
-        .keywords
-        .of_cluster(&spec.name)
+    let keywords: Vec<KeywordModel> = members
+        .iter()
         .map(|k| {
             let p0 = start_position(k.position);
             KeywordModel {
@@ -297,10 +327,14 @@ pub fn prepare(inputs: &Inputs) -> Result<Model> {
         .iter()
         .map(|m| seasonality.index(m.month()))
         .collect();
+    let grouped = inputs.keywords.grouped();
     let clusters = inputs
         .clusters
         .iter()
-        .map(|c| cluster_model(inputs, c, &rank))
+        .map(|c| {
+            let members = grouped.get(c.name.as_str()).map_or(&[][..], Vec::as_slice);
+            cluster_model(inputs, members, c, &rank)
+        })
         .collect::<Result<Vec<_>>>()?;
     Ok(Model {
         clusters,
