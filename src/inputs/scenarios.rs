@@ -7,10 +7,16 @@
 //! least as much: the tier below). `simulate --dump-scenarios` writes both.
 //! Every id must appear in both files; `requires` must name a known id and
 //! must not form a cycle.
+//!
+//! Ids are names of the user's clusters, which furrow writes guarded
+//! against formula injection (a quote before a leading `=`, `+`, `-`, `@`:
+//! see `output::csv`); the guard is removed here, so a dumped file read back
+//! gives the names that were written.
 
 use super::number::NumberKind;
 use super::table::{self, optional, required, ColumnSpec};
 use crate::error::{Issues, Result};
+use crate::output::csv::unguard;
 use std::collections::{BTreeMap, HashMap, HashSet};
 use std::path::Path;
 
@@ -50,7 +56,7 @@ pub fn read_returns(path: &Path) -> Result<Returns> {
     let header = "a header line of investment ids (such as cluster/tier), then one row of net returns per future";
     let mut t = table::open_as(path, &[], &BTreeMap::new(), header)?;
     let mut issues = Issues::default();
-    let ids: Vec<String> = t.headers().to_vec();
+    let ids: Vec<String> = t.headers().iter().map(|h| unguard(h).to_string()).collect();
     check_ids(&t, &ids, &mut issues);
     let mut values = Vec::new();
     while t.next_row(&mut issues) {
@@ -127,7 +133,7 @@ pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
     let mut named: HashSet<String> = HashSet::new();
     let id_column = t.column(0).1;
     while t.next_row(&mut issues) {
-        let id = t.text(0, &mut issues).map(str::to_string);
+        let id = t.text(0, &mut issues).map(|s| unguard(s).to_string());
         if let Some(id) = id.as_ref().filter(|s| !s.is_empty()) {
             named.insert(id.clone());
         }
@@ -137,7 +143,7 @@ pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
         let requires = t
             .text(3, &mut issues)
             .filter(|s| !s.is_empty())
-            .map(str::to_string);
+            .map(|s| unguard(s).to_string());
         let (Some(id), Some(cost), Some(max), Some(min)) = (id, cost, max, min) else {
             continue;
         };
