@@ -429,7 +429,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
     match cli.command {
         Command::Check { plan } => {
             let inputs = furrow::inputs::load::load(&plan, &Overrides::default())?;
-            out(&furrow::check::render(&furrow::check::summarise(&inputs)))?;
+            let text = furrow::check::render(&furrow::check::summarise(&inputs));
+            out(&furrow::text::visible_lines(&text))?;
         }
         Command::Init { dir } => {
             furrow::init::init(&dir)?;
@@ -773,7 +774,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             };
             let report = furrow::report::run(inputs, &opts)?;
             bar.finish();
-            out(&report.terminal)?;
+            out(&furrow::text::visible_lines(&report.terminal))?;
         }
     }
     Ok(ExitCode::SUCCESS)
