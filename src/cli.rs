@@ -432,7 +432,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             // The model files and the economics are read too, so a broken
             // model file is found here and not halfway through a report.
             furrow::check::models(&inputs)?;
-            out(&furrow::check::render(&furrow::check::summarise(&inputs)))?;
+            let text = furrow::check::render(&furrow::check::summarise(&inputs));
+            out(&furrow::text::visible_lines(&text))?;
         }
         Command::Init { dir } => {
             furrow::init::init(&dir)?;
@@ -776,7 +777,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             };
             let report = furrow::report::run(inputs, &opts)?;
             bar.finish();
-            out(&report.terminal)?;
+            out(&furrow::text::visible_lines(&report.terminal))?;
         }
     }
     Ok(ExitCode::SUCCESS)

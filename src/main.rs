@@ -14,7 +14,9 @@ fn main() -> ExitCode {
     match cli::run(args) {
         Ok(code) => code,
         Err(err) => {
-            eprintln!("error: {}", message(&err));
+            // The message echoes user text (names, cells): control
+            // characters are shown as escapes, not sent to the terminal.
+            eprintln!("error: {}", furrow::text::visible_lines(&message(&err)));
             let code = err
                 .downcast_ref::<furrow::Error>()
                 .map(cli::exit_code)

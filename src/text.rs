@@ -1,5 +1,14 @@
 //! Plain-text formatting for the terminal: numbers with thousands
 //! separators, money with the currency, percentages, and aligned tables.
+//!
+//! User text (cluster names, tier labels, file contents echoed in errors)
+//! is printed through [`visible`]: a name holding an escape or bell
+//! character would otherwise drive the terminal (colours, cursor moves, a
+//! changed window title), and a bidirectional control would reverse what
+//! follows it. Such characters are shown as escapes instead: `\x1b` for
+//! ASCII controls, `\u{202e}` beyond ASCII.
+
+use std::borrow::Cow;
 
 /// `v` with `decimals` decimals and thousands separators (`-1,234.5`);
 /// "n/a" when `v` is not finite. A value that rounds to zero has no sign.
@@ -64,6 +73,57 @@ pub fn ratio(v: Option<f64>) -> String {
         .unwrap_or_else(|| "n/a".into())
 }
 
+/// A bidirectional formatting control (embeddings, overrides, isolates,
+/// the left-to-right, right-to-left and Arabic letter marks): invisible
+/// characters that reorder the text around them.
+pub fn is_bidi_control(c: char) -> bool {
+    matches!(
+        c,
+        '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}' | '\u{200E}' | '\u{200F}' | '\u{061C}'
+    )
+}
+
+/// A character [`visible`] shows as an escape: a control character (C0,
+/// DEL, C1) or a bidirectional control.
+fn hidden(c: char) -> bool {
+    c.is_control() || is_bidi_control(c)
+}
+
+/// The escape that shows `c`: `\x1b` for ASCII, `\u{202e}` beyond.
+pub fn escape_char(c: char) -> String {
+    if c.is_ascii() {
+        format!("\\x{:02x}", c as u32)
+    } else {
+        format!("\\u{{{:x}}}", c as u32)
+    }
+}
+
+/// `s` safe to print on a terminal: every control character (line breaks
+/// and tabs included) and every bidirectional control shown as an escape.
+pub fn visible(s: &str) -> Cow<'_, str> {
+    visible_keeping(s, &[])
+}
+
+/// Like [`visible`] for text of several lines: line breaks are kept.
+pub fn visible_lines(s: &str) -> Cow<'_, str> {
+    visible_keeping(s, &['\n'])
+}
+
+fn visible_keeping<'a>(s: &'a str, keep: &[char]) -> Cow<'a, str> {
+    if !s.chars().any(|c| hidden(c) && !keep.contains(&c)) {
+        return Cow::Borrowed(s);
+    }
+    let mut out = String::with_capacity(s.len() + 8);
+    for c in s.chars() {
+        if hidden(c) && !keep.contains(&c) {
+            out.push_str(&escape_char(c));
+        } else {
+            out.push(c);
+        }
+    }
+    Cow::Owned(out)
+}
+
 /// Column alignment.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Align {
@@ -71,8 +131,15 @@ pub enum Align {
     Right,
 }
 
-/// Renders rows as an aligned table with a header and a rule.
+/// Renders rows as an aligned table with a header and a rule; cells are
+/// shown through [`visible`], so a line break or escape in a name neither
+/// breaks the table nor reaches the terminal.
 pub fn table(header: &[&str], align: &[Align], rows: &[Vec<String>]) -> String {
+    let rows: Vec<Vec<String>> = rows
+        .iter()
+        .map(|r| r.iter().map(|c| visible(c).into_owned()).collect())
+        .collect();
+    let rows = rows.as_slice();
     let n = header.len();
     let mut w: Vec<usize> = header.iter().map(|h| h.chars().count()).collect();
     for r in rows {
@@ -116,6 +183,18 @@ mod tests {
         assert_eq!(int(999.4), "999");
         assert_eq!(int(-0.2), "0");
         assert_eq!(int(f64::NAN), "n/a");
+    }
+
+    #[test]
+    fn control_characters_are_shown_as_escapes() {
+        assert_eq!(visible("plain name"), "plain name");
+        assert_eq!(visible("a\u{1b}[31mb\u{7}"), "a\\x1b[31mb\\x07");
+        assert_eq!(visible("abc\u{202e}def"), "abc\\u{202e}def");
+        assert_eq!(visible("a\nb"), "a\\x0ab");
+        assert_eq!(visible_lines("a\nb\u{1b}"), "a\nb\\x1b");
+        assert_eq!(visible("\u{9b}"), "\\u{9b}");
+        let t = table(&["n"], &[Align::Left], &[vec!["x\u{1b}y".into()]]);
+        assert!(!t.contains('\u{1b}') && t.contains("x\\x1by"), "{t}");
     }
 
     #[test]

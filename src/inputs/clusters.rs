@@ -7,7 +7,7 @@
 //! `gain_over` (positions-gained or final-position), `gain_min`, `gain_mode`,
 //! `gain_max`, `gain_lambda`.
 
-use super::number::NumberKind;
+use super::number::{echo, NumberKind};
 use super::table::{self, optional, required, ColumnSpec};
 use crate::error::{Issues, Result};
 use crate::month::Month;
@@ -253,7 +253,7 @@ fn read_start(t: &table::Table, issues: &mut Issues) -> Option<Option<Month>> {
                 t.complain(
                     4,
                     issues,
-                    format!("expected a month as YYYY-MM, found '{s}'"),
+                    format!("expected a month as YYYY-MM, found '{}'", echo(s)),
                 );
                 None
             }
@@ -288,7 +288,10 @@ fn read_gain(t: &table::Table, issues: &mut Issues) -> Option<Option<GainSpec>> 
             t.complain(
                 9,
                 issues,
-                format!("expected positions-gained or final-position, found '{other}'"),
+                format!(
+                    "expected positions-gained or final-position, found '{}'",
+                    echo(other)
+                ),
             );
             return None;
         }
@@ -310,7 +313,7 @@ fn read_gain(t: &table::Table, issues: &mut Issues) -> Option<Option<GainSpec>> 
             t.complain(
                 8,
                 issues,
-                format!("expected triangular or pert, found '{other}'"),
+                format!("expected triangular or pert, found '{}'", echo(other)),
             );
             return None;
         }

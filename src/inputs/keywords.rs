@@ -5,7 +5,7 @@
 //! keyword on a hit), so hundreds of thousands of rows load quickly. A blank
 //! position means "not in the top 100".
 
-use super::number::{parse_bool, NumberKind};
+use super::number::{echo, parse_bool, NumberKind};
 use super::table::{self, optional, required, ColumnSpec};
 use crate::error::{Issues, Result};
 use std::collections::hash_map::DefaultHasher;
@@ -167,12 +167,13 @@ impl Loader {
                 if normalise(&prev.text) != normalise(text) {
                     return Some(()); // a hash collision of different keywords
                 }
+                let text = echo(text);
                 let msg = if prev.cluster == cid {
                     format!("the keyword '{text}' is listed twice (also on line {line}); expected each keyword once")
                 } else {
                     format!(
                         "the keyword '{text}' is in two clusters: '{}' (line {line}) and '{}'; a keyword belongs to one cluster",
-                        self.set.clusters[prev.cluster as usize], self.set.clusters[cid as usize]
+                        echo(&self.set.clusters[prev.cluster as usize]), echo(&self.set.clusters[cid as usize])
                     )
                 };
                 t.complain(KW, &mut self.issues, msg);

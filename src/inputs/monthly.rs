@@ -164,7 +164,7 @@ fn read_month(t: &table::Table, issues: &mut Issues) -> Option<Month> {
     match Month::parse(text) {
         Some(m) => Some(m),
         None => {
-            let shown: String = text.chars().take(30).collect();
+            let shown = super::number::echo(text);
             t.complain(
                 0,
                 issues,

@@ -5,6 +5,26 @@
 //! spaces. These are read; everything else that is not a finite number is
 //! refused with a message saying what was expected. Decimal commas ("3,2")
 //! are refused rather than guessed, because "1,234" would be ambiguous.
+//!
+//! [`echo`] is how every reader shows an input value in a message: cut to
+//! [`ECHO_MAX`] characters, so that a 100 MB cell gives a one-line error,
+//! not 100 MB of stderr.
+
+/// The most characters of an input value a message shows.
+pub const ECHO_MAX: usize = 60;
+
+/// An input value as a message shows it: whole when short, else its first
+/// characters, an ellipsis and its length (`1111…(100000000 characters)`).
+pub fn echo(s: &str) -> std::borrow::Cow<'_, str> {
+    match s.char_indices().nth(ECHO_MAX) {
+        None => std::borrow::Cow::Borrowed(s),
+        Some(_) => {
+            let head: String = s.chars().take(ECHO_MAX - 1).collect();
+            let n = s.chars().count();
+            std::borrow::Cow::Owned(format!("{head}…({n} characters)"))
+        }
+    }
+}
 
 /// What a cell may hold.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -25,14 +45,15 @@ pub fn parse_number(raw: &str, kind: NumberKind) -> Result<f64, String> {
         Some(b) if kind == NumberKind::Rate => (b.trim_end(), 0.01),
         Some(_) => {
             return Err(format!(
-                "expected a plain number, found the percentage '{t}'"
+                "expected a plain number, found the percentage '{}'",
+                echo(t)
             ))
         }
         None => (t, 1.0),
     };
     let word = body.trim_start_matches(['-', '+']).to_ascii_lowercase();
     if matches!(word.as_str(), "nan" | "inf" | "infinity") {
-        return Err(format!("expected a finite number, found '{t}'"));
+        return Err(format!("expected a finite number, found '{}'", echo(t)));
     }
     let cleaned = strip_thousands(body).ok_or_else(|| not_a_number(t))?;
     if !cleaned
@@ -43,14 +64,16 @@ pub fn parse_number(raw: &str, kind: NumberKind) -> Result<f64, String> {
     }
     let v: f64 = cleaned.parse().map_err(|_| not_a_number(t))?;
     if !v.is_finite() {
-        return Err(format!("expected a finite number, found '{t}'"));
+        return Err(format!("expected a finite number, found '{}'", echo(t)));
     }
     Ok(v * scale)
 }
 
 fn not_a_number(t: &str) -> String {
-    let shown: String = t.chars().take(40).collect();
-    format!("expected a number such as 1234, 1,234.5 or 3.2%, found '{shown}'")
+    format!(
+        "expected a number such as 1234, 1,234.5 or 3.2%, found '{}'",
+        echo(t)
+    )
 }
 
 /// Removes thousands separators when they group digits in threes
@@ -74,7 +97,7 @@ pub fn parse_bool(raw: &str) -> Result<bool, String> {
     match raw.trim().to_ascii_lowercase().as_str() {
         "true" | "yes" | "y" | "1" => Ok(true),
         "false" | "no" | "n" | "0" | "" => Ok(false),
-        other => Err(format!("expected true or false, found '{other}'")),
+        other => Err(format!("expected true or false, found '{}'", echo(other))),
     }
 }
 
@@ -119,6 +142,17 @@ mod tests {
             let e = parse_number(word, NumberKind::Plain).unwrap_err();
             assert!(e.starts_with("expected a finite number"), "{word}: {e}");
         }
+    }
+
+    #[test]
+    fn echoed_values_are_cut() {
+        assert_eq!(echo("short"), "short");
+        let long = "7".repeat(1000);
+        let shown = echo(&long);
+        assert!(shown.chars().count() < ECHO_MAX + 30, "{shown}");
+        assert!(shown.ends_with("…(1000 characters)"), "{shown}");
+        let e = parse_number(&"1".repeat(5000), NumberKind::Plain).unwrap_err();
+        assert!(e.len() < 200, "{e}");
     }
 
     #[test]

@@ -7,10 +7,16 @@
 //! least as much: the tier below). `simulate --dump-scenarios` writes both.
 //! Every id must appear in both files; `requires` must name a known id and
 //! must not form a cycle.
+//!
+//! Ids are names of the user's clusters, which furrow writes guarded
+//! against formula injection (a quote before a leading `=`, `+`, `-`, `@`:
+//! see `output::csv`); the guard is removed here, so a dumped file read back
+//! gives the names that were written.
 
-use super::number::NumberKind;
+use super::number::{echo, NumberKind};
 use super::table::{self, optional, required, ColumnSpec};
 use crate::error::{Issues, Result};
+use crate::output::csv::unguard;
 use std::collections::{BTreeMap, HashMap, HashSet};
 use std::path::Path;
 
@@ -50,7 +56,7 @@ pub fn read_returns(path: &Path) -> Result<Returns> {
     let header = "a header line of investment ids (such as cluster/tier), then one row of net returns per future";
     let mut t = table::open_as(path, &[], &BTreeMap::new(), header)?;
     let mut issues = Issues::default();
-    let ids: Vec<String> = t.headers().to_vec();
+    let ids: Vec<String> = t.headers().iter().map(|h| unguard(h).to_string()).collect();
     check_ids(&t, &ids, &mut issues);
     let mut values = Vec::new();
     while t.next_row(&mut issues) {
@@ -65,13 +71,13 @@ pub fn read_returns(path: &Path) -> Result<Returns> {
                     issues.add(
                         &t.file,
                         Some(t.line()),
-                        Some((id, i + 1)),
+                        Some((&echo(id), i + 1)),
                         format!("the value {v} is too large; expected a net return below 3.4e38"),
                     );
                     values.push(0.0);
                 }
                 Err(msg) => {
-                    issues.add(&t.file, Some(t.line()), Some((id, i + 1)), msg);
+                    issues.add(&t.file, Some(t.line()), Some((&echo(id), i + 1)), msg);
                     values.push(0.0);
                 }
             }
@@ -103,7 +109,8 @@ fn check_ids(t: &table::Table, ids: &[String], issues: &mut Issues) {
                 "an empty investment id in the header; expected a name such as cluster/tier",
             );
         } else if let Some(prev) = seen.insert(id, i + 1) {
-            issues.add(&t.file, Some(1), Some((id, i + 1)), format!("the id '{id}' appears twice in the header (also column {prev}); expected each id once"));
+            let id = echo(id);
+            issues.add(&t.file, Some(1), Some((&id, i + 1)), format!("the id '{id}' appears twice in the header (also column {prev}); expected each id once"));
         }
     }
 }
@@ -127,7 +134,7 @@ pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
     let mut named: HashSet<String> = HashSet::new();
     let id_column = t.column(0).1;
     while t.next_row(&mut issues) {
-        let id = t.text(0, &mut issues).map(str::to_string);
+        let id = t.text(0, &mut issues).map(|s| unguard(s).to_string());
         if let Some(id) = id.as_ref().filter(|s| !s.is_empty()) {
             named.insert(id.clone());
         }
@@ -137,7 +144,7 @@ pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
         let requires = t
             .text(3, &mut issues)
             .filter(|s| !s.is_empty())
-            .map(str::to_string);
+            .map(|s| unguard(s).to_string());
         let (Some(id), Some(cost), Some(max), Some(min)) = (id, cost, max, min) else {
             continue;
         };
@@ -161,7 +168,8 @@ pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
                 0,
                 &mut issues,
                 format!(
-                    "the id '{id}' is listed twice (also on line {}); expected each id once",
+                    "the id '{}' is listed twice (also on line {}); expected each id once",
+                    echo(&id),
                     prev.line
                 ),
             );
@@ -215,8 +223,9 @@ fn check_requires(
                 Some(r.line),
                 Some(column),
                 format!(
-                    "'{}' requires '{req}', which is not an id in this file; expected an id listed in the id column (the tier below)",
-                    r.id
+                    "'{}' requires '{}', which is not an id in this file; expected an id listed in the id column (the tier below)",
+                    echo(&r.id),
+                    echo(req)
                 ),
             );
             continue;
@@ -224,7 +233,7 @@ fn check_requires(
         let mut cur = req.as_str();
         for _ in 0..=rows.len() {
             if cur == r.id {
-                issues.add(file, Some(r.line), Some(column), format!("'{}' requires itself through a cycle of 'requires'; expected a chain that ends at a first tier", r.id));
+                issues.add(file, Some(r.line), Some(column), format!("'{}' requires itself through a cycle of 'requires'; expected a chain that ends at a first tier", echo(&r.id)));
                 break;
             }
             match index.get(cur).and_then(|&i| rows[i].requires.as_deref()) {
@@ -243,12 +252,15 @@ pub fn match_ids(returns: &Returns, costs: &[CostRow], costs_file: &str) -> Resu
     for (i, id) in returns.ids.iter().enumerate() {
         match costs.iter().find(|c| &c.id == id) {
             Some(c) => ordered.push(c.clone()),
-            None => issues.add(&returns.file, Some(1), Some((id, i + 1)), format!("the id '{id}' has no row in the costs file {costs_file}; expected every id of the returns header there")),
+            None => {
+                let id = echo(id);
+                issues.add(&returns.file, Some(1), Some((&id, i + 1)), format!("the id '{id}' has no row in the costs file {costs_file}; expected every id of the returns header there"));
+            }
         }
     }
     for c in costs {
         if !returns.ids.contains(&c.id) {
-            issues.add(costs_file, Some(c.line), Some(("id", c.id_column)), format!("the id '{}' is not in the returns header of {}; expected the same ids in both files", c.id, returns.file));
+            issues.add(costs_file, Some(c.line), Some(("id", c.id_column)), format!("the id '{}' is not in the returns header of {}; expected the same ids in both files", echo(&c.id), returns.file));
         }
     }
     issues.into_result(ordered)

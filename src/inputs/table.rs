@@ -5,7 +5,8 @@
 //! case-insensitively (with an optional mapping from the plan for exports
 //! whose headers differ), refuses binary, UTF-16 and non-UTF-8 input with the
 //! line and column, and reports ragged rows. Rows are streamed, never held
-//! twice, so a million-row keyword list loads in one pass.
+//! twice, so a million-row keyword list loads in one pass. Header names and
+//! cells shown in messages go through `number::echo`, which cuts long ones.
 
 use crate::error::{Error, Issues, Result};
 use csv::ByteRecord;
@@ -14,7 +15,7 @@ use std::fs::File;
 use std::io::{Cursor, Read};
 use std::path::Path;
 
-use super::number::{parse_number, NumberKind};
+use super::number::{echo, parse_number, NumberKind};
 
 /// A column a reader knows.
 #[derive(Debug, Clone, Copy)]
@@ -221,7 +222,7 @@ impl Table {
                     issues.add(
                         &self.file,
                         Some(self.line),
-                        Some((shown.trim(), i + 1)),
+                        Some((&echo(shown.trim()), i + 1)),
                         utf8_msg(cell, e),
                     );
                     self.headers.push(String::new());
@@ -241,16 +242,9 @@ impl Table {
         let lower: Vec<String> = self.headers.iter().map(|h| h.to_lowercase()).collect();
         for (i, h) in lower.iter().enumerate() {
             if !h.is_empty() && lower[..i].contains(h) {
-                let msg = format!(
-                    "the header '{}' appears twice; expected each column once",
-                    self.headers[i]
-                );
-                issues.add(
-                    &self.file,
-                    Some(self.line),
-                    Some((&self.headers[i], i + 1)),
-                    msg,
-                );
+                let name = echo(&self.headers[i]);
+                let msg = format!("the header '{name}' appears twice; expected each column once");
+                issues.add(&self.file, Some(self.line), Some((&name, i + 1)), msg);
             }
         }
         for spec in specs {
@@ -264,13 +258,13 @@ impl Table {
             let pos = lower.iter().position(|h| wanted.contains(h));
             if pos.is_none() && spec.required {
                 let via = match mapping.get(spec.name) {
-                    Some(m) => format!(" (mapped in the plan to '{m}')"),
+                    Some(m) => format!(" (mapped in the plan to '{}')", echo(m)),
                     None => String::new(),
                 };
                 let msg = format!(
                     "missing the required column '{}'{via}; the header has: {}. Rename the column or map it in the plan's [inputs.columns] table",
                     spec.name,
-                    self.headers.join(", ")
+                    header_list(&self.headers)
                 );
                 issues.add(&self.file, Some(self.line), None, msg);
             }
@@ -354,22 +348,21 @@ impl Table {
     /// messages show it (the canonical name when the file lacks it).
     pub fn column(&self, k: usize) -> (String, usize) {
         match self.index.get(k).copied().flatten() {
-            Some(_) => {
-                let (name, pos) = self.col(k);
-                (name.to_string(), pos)
-            }
+            Some(_) => self.col(k),
             None => (self.names.get(k).copied().unwrap_or("?").to_string(), 0),
         }
     }
 
-    fn col(&self, k: usize) -> (&str, usize) {
+    /// The header name (as messages show it) and 1-based position of spec
+    /// `k`'s column.
+    fn col(&self, k: usize) -> (String, usize) {
         let pos = self.index[k].unwrap_or(0);
         let name = self
             .headers
             .get(pos)
             .map(String::as_str)
             .unwrap_or(self.names[k]);
-        (name, pos + 1)
+        (echo(name).into_owned(), pos + 1)
     }
 
     /// The raw cell of spec `k` as text (None when the column is absent or the
@@ -380,10 +373,11 @@ impl Table {
         match std::str::from_utf8(cell) {
             Ok(s) => Some(s.trim()),
             Err(e) => {
+                let (name, pos) = self.col(k);
                 issues.add(
                     &self.file,
                     Some(self.line),
-                    Some(self.col(k)),
+                    Some((&name, pos)),
                     utf8_msg(cell, e),
                 );
                 None
@@ -393,7 +387,8 @@ impl Table {
 
     /// Records a problem with the cell of spec `k` on the current row.
     pub fn complain(&self, k: usize, issues: &mut Issues, msg: impl Into<String>) {
-        issues.add(&self.file, Some(self.line), Some(self.col(k)), msg);
+        let (name, pos) = self.col(k);
+        issues.add(&self.file, Some(self.line), Some((&name, pos)), msg);
     }
 
     /// Records a problem with the current row as a whole.
@@ -472,17 +467,31 @@ impl Table {
         match std::str::from_utf8(cell) {
             Ok(s) => Some(s.trim()),
             Err(e) => {
-                let name = self.headers.get(pos).map(String::as_str).unwrap_or("");
+                let name = echo(self.headers.get(pos).map(String::as_str).unwrap_or(""));
                 issues.add(
                     &self.file,
                     Some(self.line),
-                    Some((name, pos + 1)),
+                    Some((&name, pos + 1)),
                     utf8_msg(cell, e),
                 );
                 None
             }
         }
     }
+}
+
+/// The header names for a message: each cut by `echo`, at most 20 of them.
+fn header_list(headers: &[String]) -> String {
+    const SHOWN: usize = 20;
+    let mut list: Vec<String> = headers
+        .iter()
+        .take(SHOWN)
+        .map(|h| echo(h).into_owned())
+        .collect();
+    if headers.len() > SHOWN {
+        list.push(format!("... and {} more", headers.len() - SHOWN));
+    }
+    list.join(", ")
 }
 
 fn utf8_msg(cell: &[u8], e: std::str::Utf8Error) -> String {

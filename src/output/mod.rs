@@ -37,7 +37,9 @@ pub trait Render: Serialize {
 /// Renders `v` in format `f`.
 pub fn render<T: Render>(v: &T, f: Format) -> Result<String> {
     match f {
-        Format::Table => Ok(v.table()),
+        // A table is for a terminal: control characters in names are shown
+        // as escapes (`text::visible`). JSON and CSV keep names exactly.
+        Format::Table => Ok(crate::text::visible_lines(&v.table()).into_owned()),
         Format::Json => json::to_string(v),
         Format::Csv => csv::to_string(&v.rows()),
     }

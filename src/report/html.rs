@@ -7,8 +7,15 @@
 //! serialises. Every piece of user text (plan, cluster, tier and file
 //! names, notes) is escaped where it is written; numbers that are not
 //! finite print as "n/a".
+//!
+//! User text in the page's prose and tables goes through [`text_html`]:
+//! escaped (bidirectional controls dropped, so a name holding U+202E cannot
+//! reverse what follows it), and a run too long to wrap (a 10,000
+//! character name) cut to [`RUN_MAX`] characters inside a `<bdi>` whose
+//! `title` holds it whole, so the page keeps its width and the full name
+//! shows on hover.
 
-use super::svg::{chance, esc, money, number, ratio};
+use super::svg::{chance, cut_run, esc, money, number, ratio, runs, RUN_MAX};
 use super::Summary;
 use super::{assumptions, sections};
 use std::fmt::Write;
@@ -56,7 +63,7 @@ pub fn page(sm: &Summary) -> String {
     }
     format!(
         "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n<title>furrow report: {}</title>\n<style>\n{CSS}</style>\n</head>\n<body>\n{body}</body>\n</html>\n",
-        esc(&sm.plan)
+        esc(&super::svg::cut_runs(&sm.plan))
     )
 }
 
@@ -64,7 +71,7 @@ fn header(sm: &Summary, parts: &[(&str, &str, String)]) -> String {
     let c = &sm.check;
     let mut h = format!(
         "<header>\n<h1>furrow report: {}</h1>\n<p class=\"sub\">Forecast {} to {}, amounts in {}, {} simulated futures (seed {}).</p>\n",
-        esc(&sm.plan),
+        text_html(&sm.plan),
         esc(&c.forecast_first),
         esc(&c.forecast_last),
         esc(&sm.currency),
@@ -78,9 +85,28 @@ fn header(sm: &Summary, parts: &[(&str, &str, String)]) -> String {
     h + "</ol></nav>\n</header>\n"
 }
 
+/// User text as page text: escaped, each run longer than [`RUN_MAX`]
+/// characters cut and isolated in a `<bdi>` with the whole run as title.
+pub fn text_html(s: &str) -> String {
+    let mut out = String::with_capacity(s.len().min(4 * RUN_MAX) + 16);
+    for (run, long) in runs(s) {
+        if long {
+            let _ = write!(
+                out,
+                "<bdi title=\"{}\">{}</bdi>",
+                esc(run),
+                esc(&cut_run(run))
+            );
+        } else {
+            out.push_str(&esc(run));
+        }
+    }
+    out
+}
+
 /// A paragraph of escaped text.
 pub fn para(text: &str) -> String {
-    format!("<p>{}</p>\n", esc(text))
+    format!("<p>{}</p>\n", text_html(text))
 }
 
 /// A bulleted list of escaped lines (nothing when empty).
@@ -90,7 +116,7 @@ pub fn list(items: &[String]) -> String {
     }
     let lis: String = items
         .iter()
-        .map(|i| format!("<li>{}</li>\n", esc(i)))
+        .map(|i| format!("<li>{}</li>\n", text_html(i)))
         .collect();
     format!("<ul>\n{lis}</ul>\n")
 }
@@ -127,14 +153,14 @@ pub fn table(caption: &str, header: &[&str], rows: &[Vec<String>]) -> String {
             let cells: String = r
                 .iter()
                 .enumerate()
-                .map(|(i, c)| format!("<td{}>{}</td>", class(i), esc(c)))
+                .map(|(i, c)| format!("<td{}>{}</td>", class(i), text_html(c)))
                 .collect();
             format!("<tr>{cells}</tr>\n")
         })
         .collect();
     format!(
         "<table>\n<caption>{}</caption>\n<thead><tr>{head}</tr></thead>\n<tbody>\n{body}</tbody>\n</table>\n",
-        esc(caption)
+        text_html(caption)
     )
 }
 
@@ -142,7 +168,7 @@ pub fn table(caption: &str, header: &[&str], rows: &[Vec<String>]) -> String {
 pub fn figure(svg: &str, caption: &str) -> String {
     format!(
         "<figure>\n{svg}<figcaption>{}</figcaption>\n</figure>\n",
-        esc(caption)
+        text_html(caption)
     )
 }
 
@@ -150,7 +176,13 @@ pub fn figure(svg: &str, caption: &str) -> String {
 pub fn figures_list(items: &[(String, String)]) -> String {
     let inner: String = items
         .iter()
-        .map(|(k, v)| format!("<div><dt>{}</dt><dd>{}</dd></div>\n", esc(k), esc(v)))
+        .map(|(k, v)| {
+            format!(
+                "<div><dt>{}</dt><dd>{}</dd></div>\n",
+                text_html(k),
+                text_html(v)
+            )
+        })
         .collect();
     format!("<dl class=\"key\">\n{inner}</dl>\n")
 }
@@ -198,7 +230,7 @@ fn titled_list(lead: &str, items: &[String]) -> String {
 
 fn decision(sm: &Summary) -> String {
     let a = &sm.allocation;
-    let mut s = format!("<p class=\"decision\">{}</p>\n", esc(&sm.decision));
+    let mut s = format!("<p class=\"decision\">{}</p>\n", text_html(&sm.decision));
     s += &figures_list(&key_figures(sm));
     s += &sections::target(sm);
     s += &titled_list("What binds the choice:", &a.binding);

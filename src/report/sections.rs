@@ -6,7 +6,7 @@
 
 use super::html::{figure, list, para, table};
 use super::risk::tail_share;
-use super::svg::{chance, esc, money, number, pct, ratio};
+use super::svg::{chance, money, number, pct, ratio};
 use super::{figures, risk, Summary};
 use crate::target::Metric;
 
@@ -285,7 +285,7 @@ pub fn drivers(sm: &Summary) -> String {
     let mut s = para(&format!("Method: {}.", sm.drivers.method));
     for (k, t) in sm.drivers.tables.iter().enumerate() {
         let heading = format!("What drives the {}", t.outcome);
-        s += &format!("<h3>{}</h3>\n", esc(&heading));
+        s += &format!("<h3>{}</h3>\n", super::html::text_html(&heading));
         s += &figure(&risk::tornado(sm, k), caption);
         if let Some(n) = &t.note {
             s += &para(n);

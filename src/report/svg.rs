@@ -5,12 +5,18 @@
 //!
 //! Every string that reaches the markup goes through [`esc`] at the point it
 //! is written: the helpers here escape their text and attribute arguments
-//! themselves, so a cluster named `<script>` stays text.
+//! themselves, so a cluster named `<script>` stays text. [`esc`] also drops
+//! bidirectional controls (a name holding U+202E would reverse the text
+//! after it) and shows other control characters as escapes (`\x1b`), and
+//! [`cut_runs`] cuts runs of text too long to wrap, so that a 10,000
+//! character name neither widens the page nor hides what follows it.
 
 use std::fmt::Write;
 
 /// Escapes `&`, `<`, `>`, `"` and `'` for HTML and SVG text and attribute
-/// values (the five characters of the XML predefined entities).
+/// values (the five characters of the XML predefined entities); drops
+/// bidirectional controls and shows other control characters but line
+/// breaks and tabs as escapes (`\x1b`, as on the terminal).
 pub fn esc(s: &str) -> String {
     let mut out = String::with_capacity(s.len());
     for ch in s.chars() {
@@ -20,10 +26,55 @@ pub fn esc(s: &str) -> String {
             '>' => out.push_str("&gt;"),
             '"' => out.push_str("&quot;"),
             '\'' => out.push_str("&#39;"),
+            c if crate::text::is_bidi_control(c) => {}
+            '\n' | '\t' => out.push(ch),
+            c if c.is_control() => out.push_str(&crate::text::escape_char(c)),
             c => out.push(c),
         }
     }
     out
+}
+
+/// The longest run of characters without a space that the page shows
+/// whole; a longer one (a name that cannot wrap) is cut.
+pub const RUN_MAX: usize = 60;
+
+/// `s` with every run of more than [`RUN_MAX`] characters without white
+/// space cut in the middle (its start, an ellipsis, its last characters, so
+/// `very…long/2` keeps its tier). Plain text, not escaped.
+pub fn cut_runs(s: &str) -> String {
+    runs(s)
+        .map(|(run, long)| if long { cut_run(run) } else { run.to_string() })
+        .collect()
+}
+
+/// The pieces of `s`: white space and runs without it, each with whether
+/// it is a run longer than [`RUN_MAX`].
+pub fn runs(s: &str) -> impl Iterator<Item = (&str, bool)> {
+    let mut rest = s;
+    std::iter::from_fn(move || {
+        let first = rest.chars().next()?;
+        let space = first.is_whitespace();
+        let end = rest
+            .char_indices()
+            .find(|(_, c)| c.is_whitespace() != space)
+            .map_or(rest.len(), |(i, _)| i);
+        let (piece, tail) = rest.split_at(end);
+        rest = tail;
+        Some((piece, !space && piece.chars().nth(RUN_MAX).is_some()))
+    })
+}
+
+/// A run cut to [`RUN_MAX`] characters: start, ellipsis, last 16.
+pub fn cut_run(run: &str) -> String {
+    const TAIL: usize = 16;
+    let n = run.chars().count();
+    if n <= RUN_MAX {
+        return run.to_string();
+    }
+    let head: String = run.chars().take(RUN_MAX - TAIL - 1).collect();
+    let tail: String = run.chars().skip(n - TAIL).collect();
+    format!("{head}…{tail}")
 }
 
 pub use crate::text::{money, number, pct, ratio};
@@ -200,7 +251,7 @@ impl Svg {
             coord(at.1),
             anchor.name(),
             esc(class),
-            esc(s)
+            esc(&cut_runs(s))
         );
     }
 
@@ -210,7 +261,7 @@ impl Svg {
             self.body,
             "<text x=\"{x}\" y=\"{y}\" text-anchor=\"middle\" transform=\"rotate(-90 {x} {y})\" class=\"{}\">{}</text>",
             esc(class),
-            esc(s),
+            esc(&cut_runs(s)),
             x = coord(at.0),
             y = coord(at.1),
         );
@@ -235,7 +286,7 @@ impl Svg {
             w = coord(self.width),
             h = coord(self.height),
             t = esc(title),
-            d = esc(desc),
+            d = esc(&cut_runs(desc)),
             body = self.body
         )
     }
@@ -340,6 +391,26 @@ mod tests {
         assert!(out.contains("data-id=\"x&quot;y\""));
         assert!(!out.contains("<b>"));
         assert!(out.contains("<title id=\"c1-title\">t&lt;</title>"));
+    }
+
+    #[test]
+    fn bidi_controls_are_dropped_and_control_characters_shown() {
+        assert_eq!(esc("abc\u{202e}def\u{2066}g\u{200f}"), "abcdefg");
+        assert_eq!(esc("a\u{1b}[1mb\u{7}"), "a\\x1b[1mb\\x07");
+        assert_eq!(esc("two\nlines\tand tab"), "two\nlines\tand tab");
+    }
+
+    #[test]
+    fn long_runs_are_cut_in_the_middle_and_short_ones_kept() {
+        let long = format!("{}/2", "x".repeat(10_000));
+        let cut = cut_runs(&format!("fund {long} now"));
+        let words: Vec<&str> = cut.split(' ').collect();
+        assert_eq!(words.len(), 3, "{cut}");
+        assert_eq!(words[1].chars().count(), RUN_MAX);
+        assert!(words[1].ends_with("x/2") && words[1].contains('…'), "{cut}");
+        let spaced = "word ".repeat(3000);
+        assert_eq!(cut_runs(&spaced), spaced);
+        assert_eq!(cut_runs("  a  b "), "  a  b ");
     }
 
     #[test]

@@ -16,6 +16,7 @@ pub use summary::{net_returns, summarise_futures, SimSummary};
 
 use crate::error::Result;
 use crate::fsio::write_text;
+use crate::output::csv::field;
 use std::path::{Path, PathBuf};
 
 /// The costs file that goes with a dumped returns file: `x.csv` gives
@@ -38,13 +39,9 @@ pub fn dump_scenarios(model: &Model, futures: &Futures, returns_path: &Path) -> 
         .iter()
         .map(|&(c, t)| model.slot_id(c, t))
         .collect();
-    let quote = |s: &str| {
-        if s.contains([',', '"', '\n']) {
-            format!("\"{}\"", s.replace('"', "\"\""))
-        } else {
-            s.to_string()
-        }
-    };
+    // Ids hold the user's cluster names: guarded against formula injection
+    // and quoted by the one CSV writer (`allocate --returns` reads them back).
+    let quote = |s: &str| field(s).into_owned();
     let mut text = ids.iter().map(|s| quote(s)).collect::<Vec<_>>().join(",");
     text.push('\n');
     for s in 0..futures.scenarios {
