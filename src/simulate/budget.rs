@@ -31,10 +31,13 @@
 //!
 //! Run time: the keyword loop dominates every long run. Its work is counted
 //! in keyword-months (keywords x months x futures, once for the base run
-//! and once more for each keyword a stress preset re-simulates); the rest
-//! (net returns, summaries, LP rounds) in slot-futures. Both rates were
-//! measured on the project's 2-core machine (docs/performance.md) and set
-//! below the slowest measurement, so the estimate errs long.
+//! and once more for each keyword a stress preset re-simulates) and shared
+//! by the threads; the rest (writing and reading every futures matrix:
+//! page faults, net returns, summaries, LP rounds, much of it on one
+//! thread) in matrix cells (futures x slots x months, once per matrix the
+//! job makes). Both rates were measured on the project's 2-core machine
+//! (docs/performance.md) and set below the measurements, so the estimate
+//! errs long.
 
 use super::model::Model;
 use crate::error::{Error, Result};
@@ -45,11 +48,12 @@ use crate::error::{Error, Result};
 /// 300,000-keyword list; set at 6e7 so the estimate errs long under load.
 pub const KEYWORD_MONTHS_PER_SECOND: f64 = 6.0e7;
 
-/// Slot-futures per second per core of the work outside the keyword loop
-/// (net returns, summaries, the LP rounds of allocation and frontier),
-/// counted once per allocation solved. Measured from `report` on a plan
-/// with many slots and few keywords (docs/performance.md).
-pub const SLOT_FUTURES_PER_SECOND: f64 = 2.0e7;
+/// Matrix cells per second of the work outside the keyword loop, counted
+/// once per futures matrix a job makes, not shared by the threads.
+/// Measured from `report` (wall time less the keyword loop's share) at
+/// about 2e8 on the demo at 100,000 futures and on plans of 120 and 300
+/// slots over 60 and 36 months (docs/performance.md); set at 1.2e8.
+pub const MATRIX_CELLS_PER_SECOND: f64 = 1.2e8;
 
 /// Longest run accepted without `--allow-long-run`: 30 minutes.
 pub const DEFAULT_MAX_RUN_SECONDS: f64 = 30.0 * 60.0;
@@ -170,8 +174,8 @@ pub struct MemoryEstimate {
 pub struct RunTime {
     /// Keyword-months the keyword loop runs (base and stress runs).
     pub keyword_months: f64,
-    /// Slot-futures of the work outside the keyword loop.
-    pub slot_futures: f64,
+    /// Matrix cells written and read outside the keyword loop.
+    pub matrix_cells: f64,
     /// Estimated seconds on `threads` threads.
     pub seconds: f64,
     /// Threads assumed.
@@ -315,32 +319,31 @@ fn stress_parts(
 /// The estimated run time of `job` at `sizes`.
 pub fn run_time(job: &Job, z: &Sizes) -> RunTime {
     let base = z.keywords as f64 * z.horizon as f64 * z.scenarios as f64;
-    let slot_futures = z.slots as f64 * z.scenarios as f64;
-    // Allocation solves after the simulation (each a pass over the net
-    // returns per cut round, counted as one unit per solve) and the
-    // re-simulation of the stress presets.
-    let (resim, solves) = match job {
-        Job::Simulate { .. } => (0.0, 1.0),
-        Job::Allocate | Job::Track => (0.0, 3.0),
-        Job::Frontier { points } => (0.0, 3.0 + *points as f64),
+    let cells = z.slots as f64 * z.horizon as f64 * z.scenarios as f64;
+    // Keyword loops re-run by the stress presets, and futures matrices made
+    // (the base one and one per preset).
+    let (resim, matrices) = match job {
+        Job::Simulate { .. } | Job::Allocate | Job::Track | Job::Frontier { .. } => (0.0, 1.0),
         Job::Stress {
             stress,
             optimize_under,
-        } => (
-            stress.resimulated + if *optimize_under { 1.0 } else { 0.0 },
-            3.0 + stress.presets as f64,
-        ),
-        Job::Report { stress } => (stress.resimulated, 16.0 + stress.presets as f64),
+        } => {
+            let extra = if *optimize_under { 1.0 } else { 0.0 };
+            (
+                stress.resimulated + extra,
+                1.0 + stress.presets as f64 + extra,
+            )
+        }
+        Job::Report { stress } => (stress.resimulated, 1.0 + stress.presets as f64),
     };
     let keyword_months = base * (1.0 + resim);
-    let slot_work = slot_futures * solves;
+    let matrix_cells = cells * matrices;
     let threads = z.threads.max(1);
-    let seconds = (keyword_months / KEYWORD_MONTHS_PER_SECOND
-        + slot_work / SLOT_FUTURES_PER_SECOND)
-        / threads as f64;
+    let seconds = keyword_months / (KEYWORD_MONTHS_PER_SECOND * threads as f64)
+        + matrix_cells / MATRIX_CELLS_PER_SECOND;
     RunTime {
         keyword_months,
-        slot_futures: slot_work,
+        matrix_cells,
         seconds,
         threads,
     }
@@ -510,7 +513,7 @@ mod tests {
     fn long_run_is_refused_naming_the_flag_and_allowed_without_a_limit() {
         let t = RunTime {
             keyword_months: 1e12,
-            slot_futures: 0.0,
+            matrix_cells: 0.0,
             seconds: 7200.0,
             threads: 2,
         };
