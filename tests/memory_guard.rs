@@ -297,3 +297,37 @@ fn short_run_prints_no_run_time_note() {
         stderr(&o)
     );
 }
+
+#[test]
+fn stress_sizes_count_the_matrices_the_demo_report_keeps() {
+    // The six built-in presets on the demo, worked out by hand from the
+    // preset files (models/stress/): `slower-gains` changes every cluster's
+    // keyword loop (kept), `ranking-shock` half of them (kept), `bad-year`
+    // both at once (new keys on the shocked half: kept); the others change
+    // only multipliers. So at most two kept runs and the one in hand are
+    // alive together. Site samplers: click-through (`ctr-erosion`),
+    // conversion (`weaker-conversion`) and both (`bad-year`) differ from
+    // the base and from each other.
+    let tmp = tempfile::tempdir().expect("a temporary folder");
+    let plan = demo_plan(tmp.path(), "demo", &[], 12);
+    let inputs = furrow::inputs::load::load(&plan, &furrow::plan::Overrides::default())
+        .expect("the demo loads");
+    let model = furrow::simulate::prepare(&inputs).expect("the model prepares");
+    let names = furrow::analysis::preset_names_of(&inputs, &[]);
+    let st = furrow::analysis::stress_sizes(&inputs, &model, &names, None).expect("sizes");
+    assert_eq!(st.presets, 6);
+    assert_eq!(st.alive, 3);
+    assert_eq!(st.site_copies, 3);
+    // Re-simulated: every keyword once (slower-gains) and the shocked
+    // clusters' keywords twice (ranking-shock, bad-year).
+    let preset = furrow::analysis::load_preset_of(&inputs.plan, "ranking-shock").expect("preset");
+    let hit = furrow::stress::shocked_clusters(&preset, model.clusters.len(), inputs.plan.seed);
+    let all: usize = model.clusters.iter().map(|c| c.keywords.len()).sum();
+    let shocked: usize = hit.iter().map(|&c| model.clusters[c].keywords.len()).sum();
+    let want = 1.0 + 2.0 * shocked as f64 / all as f64;
+    assert!(
+        (st.resimulated - want).abs() < 1e-9,
+        "{} vs {want}",
+        st.resimulated
+    );
+}
