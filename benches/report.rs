@@ -26,6 +26,7 @@ fn bench(c: &mut Criterion) {
                 out: Some(&out),
                 max_memory: 1 << 34,
                 progress: None,
+                ..Default::default()
             };
             furrow::report::run(inputs, &opts).expect("report")
         })

@@ -8,8 +8,12 @@ use crate::allocate::{self, Allocation, Problem, SolveOptions};
 use crate::clicks::{SiteDraw, SiteSampler};
 use crate::drivers::{self, DriverReport};
 use crate::error::Result;
+use crate::inputs::load::Inputs;
 use crate::model_files;
 use crate::pipeline::Simulated;
+use crate::plan::Plan;
+use crate::simulate::budget::StressSizes;
+use crate::simulate::Model;
 use crate::simulate::{RunOptions, SiteSource};
 use crate::stress::{self, Case, ReportHead, StressPreset, StressReport};
 use crate::target::{self, Metric, Target, TargetReport};
@@ -49,10 +53,15 @@ pub fn target_report(
 
 /// The presets to run: the plan's list, or every built-in preset.
 pub fn preset_names(s: &Simulated, asked: &[String]) -> Vec<String> {
+    preset_names_of(&s.inputs, asked)
+}
+
+/// [`preset_names`] before the simulation.
+pub fn preset_names_of(inputs: &Inputs, asked: &[String]) -> Vec<String> {
     if !asked.is_empty() {
         return asked.to_vec();
     }
-    match &s.inputs.plan.file.models.stress {
+    match &inputs.plan.file.models.stress {
         Some(list) => list.clone(),
         None => stress::PRESET_NAMES.iter().map(|n| n.to_string()).collect(),
     }
@@ -60,12 +69,84 @@ pub fn preset_names(s: &Simulated, asked: &[String]) -> Vec<String> {
 
 /// Loads a stress preset by name (or path) through the models folders.
 pub fn load_preset(s: &Simulated, name: &str) -> Result<StressPreset> {
-    let text = model_files::find(&s.inputs.plan, "stress", name)?;
+    load_preset_of(&s.inputs.plan, name)
+}
+
+/// [`load_preset`] before the simulation.
+pub fn load_preset_of(plan: &Plan, name: &str) -> Result<StressPreset> {
+    let text = model_files::find(plan, "stress", name)?;
     let mut p = StressPreset::from_toml_str(&text.text, &text.origin)?;
     if p.name.is_empty() {
         p.name = name.to_string();
     }
     Ok(p)
+}
+
+/// What [`stress_report`] will hold and re-simulate for presets `names`,
+/// read from the presets before anything is simulated: it replays the
+/// choice of runs kept for later presets as if the allocation funded every
+/// tier (the most it can keep and re-simulate), so the counts are an upper
+/// bound. `optimize_under` names the preset of `allocate_under`, whose
+/// re-run is counted once more.
+pub fn stress_sizes(
+    inputs: &Inputs,
+    model: &Model,
+    names: &[String],
+    optimize_under: Option<&str>,
+) -> Result<StressSizes> {
+    let n = model.clusters.len();
+    let seed = inputs.plan.seed;
+    let base_keys = stress::loop_keys(None, n, seed);
+    let base_sampler = model.factors.site_sampler(&model.economics).ok();
+    let cluster_keywords: Vec<f64> = model
+        .clusters
+        .iter()
+        .map(|c| c.keywords.len() as f64)
+        .collect();
+    let all: f64 = cluster_keywords.iter().sum::<f64>().max(1.0);
+    // Keys and volume scales of the runs a later preset may copy from.
+    let mut done: Vec<(Vec<stress::LoopKey>, f64)> = vec![(base_keys.clone(), 1.0)];
+    let mut samplers = Vec::new();
+    let mut sizes = StressSizes {
+        presets: names.len(),
+        ..StressSizes::default()
+    };
+    let mut kept = 0usize;
+    for name in names {
+        let preset = load_preset_of(&inputs.plan, name)?;
+        let keys = stress::loop_keys(Some(&preset), n, seed);
+        let mut simulated = 0.0;
+        for c in 0..n {
+            let copied = done.iter().any(|(k, vs)| k[c] == keys[c] && *vs > 0.0);
+            if !copied {
+                simulated += cluster_keywords[c];
+            }
+        }
+        sizes.resimulated += simulated / all;
+        sizes.alive = sizes.alive.max(kept + 1);
+        let stressed = stress::apply(&preset, model, seed);
+        let sampler = stressed.factors.site_sampler(&stressed.economics).ok();
+        if sampler != base_sampler && !samplers.contains(&sampler) {
+            samplers.push(sampler);
+        }
+        let new = (0..n)
+            .any(|c| keys[c] != base_keys[c] && done.iter().skip(1).all(|(k, _)| k[c] != keys[c]));
+        if new {
+            kept += 1;
+            done.push((keys, preset.model.volume_scale));
+        }
+    }
+    sizes.site_copies = samplers.len();
+    if let Some(name) = optimize_under {
+        let preset = load_preset_of(&inputs.plan, name)?;
+        let keys = stress::loop_keys(Some(&preset), n, seed);
+        let simulated: f64 = (0..n)
+            .filter(|&c| keys[c] != base_keys[c])
+            .map(|c| cluster_keywords[c])
+            .sum();
+        sizes.resimulated += simulated / all;
+    }
+    Ok(sizes)
 }
 
 /// Runs every preset on the chosen allocation and tabulates it against the base case.

@@ -73,12 +73,37 @@ struct SimFlags {
     /// No progress bar.
     #[arg(long)]
     quiet: bool,
+    /// Run even when the estimated run time is above 30 minutes.
+    #[arg(long)]
+    allow_long_run: bool,
+}
+
+/// The longest estimated run accepted without `--allow-long-run`.
+fn max_seconds(allow_long_run: bool) -> Option<f64> {
+    (!allow_long_run).then_some(furrow::simulate::budget::DEFAULT_MAX_RUN_SECONDS)
+}
+
+/// Prints a one-line note on stderr before a run estimated to take long
+/// (unless `quiet`).
+fn cost_note(quiet: bool) -> impl Fn(&furrow::simulate::budget::Costs) + Sync {
+    move |c: &furrow::simulate::budget::Costs| {
+        if quiet || c.time.seconds <= furrow::simulate::budget::NOTE_RUN_SECONDS {
+            return;
+        }
+        eprintln!(
+            "note: this run is estimated to take about {} on {} thread(s) and about {} MiB of memory",
+            furrow::simulate::budget::duration_text(c.time.seconds),
+            c.time.threads,
+            c.memory.bytes.div_ceil(1024 * 1024)
+        );
+    }
 }
 
 fn simulate_plan(
     plan: &std::path::Path,
     o: Overrides,
     sim: &SimFlags,
+    work: furrow::pipeline::Work,
 ) -> Result<furrow::pipeline::Simulated> {
     set_threads(sim.threads)?;
     let o = Overrides {
@@ -97,7 +122,13 @@ fn simulate_plan(
         max_memory: memory_limit(sim.max_memory),
         progress: Some(&cb),
     };
-    let s = furrow::pipeline::simulate(inputs, &opts)?;
+    let note = cost_note(sim.quiet);
+    let limits = furrow::pipeline::Limits {
+        work,
+        max_seconds: max_seconds(sim.allow_long_run),
+        on_costs: Some(&note),
+    };
+    let s = furrow::pipeline::simulate_with(inputs, &opts, &limits)?;
     bar.finish();
     Ok(s)
 }
@@ -192,9 +223,15 @@ enum Command {
         /// Worker threads (default: all cores). Results do not depend on it.
         #[arg(long)]
         threads: Option<usize>,
+        /// Memory limit for the whole report, in MiB (default: half of the machine's memory).
+        #[arg(long, value_name = "MIB")]
+        max_memory: Option<u64>,
         /// No progress output on stderr.
         #[arg(long)]
         quiet: bool,
+        /// Run even when the estimated run time is above 30 minutes.
+        #[arg(long)]
+        allow_long_run: bool,
     },
     /// Load a plan and all its inputs, and summarise them.
     Check {
@@ -284,6 +321,9 @@ enum Command {
         /// No progress bar.
         #[arg(long)]
         quiet: bool,
+        /// Run even when the estimated run time is above 30 minutes.
+        #[arg(long)]
+        allow_long_run: bool,
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
     },
@@ -581,6 +621,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             dump_scenarios,
             max_memory,
             quiet,
+            allow_long_run,
             format,
         } => {
             set_threads(threads)?;
@@ -591,6 +632,15 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             };
             let inputs = furrow::inputs::load::load(&plan, &o)?;
             let model = furrow::simulate::prepare(&inputs)?;
+            let note = cost_note(quiet);
+            let limits = furrow::pipeline::Limits {
+                work: furrow::pipeline::Work::Simulate {
+                    dump: dump_scenarios.is_some(),
+                },
+                max_seconds: max_seconds(allow_long_run),
+                on_costs: Some(&note),
+            };
+            furrow::pipeline::guard(&inputs, &model, memory_limit(max_memory), &limits)?;
             let bar = progress::Bar::new(inputs.plan.scenarios as u64, "simulating futures", quiet);
             let cb = |d: usize| bar.set(d as u64);
             let opts = furrow::simulate::RunOptions {
@@ -644,7 +694,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                         max_tail_loss,
                         ..Overrides::default()
                     };
-                    let s = simulate_plan(&plan, o, &sim)?;
+                    let s = simulate_plan(&plan, o, &sim, furrow::pipeline::Work::Allocate)?;
                     (s.problem(), s.inputs.plan.currency.clone())
                 }
                 _ => {
@@ -675,7 +725,12 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 ))
                 .into());
             }
-            let s = simulate_plan(&plan, Overrides::default(), &sim)?;
+            let s = simulate_plan(
+                &plan,
+                Overrides::default(),
+                &sim,
+                furrow::pipeline::Work::Frontier { points },
+            )?;
             let problem = s.problem();
             let opts = furrow::allocate::SolveOptions::default();
             let currency = s.inputs.plan.currency.clone();
@@ -712,7 +767,11 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             sim,
             format,
         } => {
-            let s = simulate_plan(&plan, Overrides::default(), &sim)?;
+            let work = furrow::pipeline::Work::Stress {
+                presets: presets.clone(),
+                optimize_under: optimize_under.clone(),
+            };
+            let s = simulate_plan(&plan, Overrides::default(), &sim, work)?;
             let opts = furrow::allocate::SolveOptions::default();
             let limit = memory_limit(sim.max_memory);
             let chosen = match &optimize_under {
@@ -731,7 +790,12 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             sim,
             format,
         } => {
-            let s = simulate_plan(&plan, Overrides::default(), &sim)?;
+            let s = simulate_plan(
+                &plan,
+                Overrides::default(),
+                &sim,
+                furrow::pipeline::Work::Track,
+            )?;
             let no_map = Default::default();
             let a = furrow::inputs::monthly::read(
                 &actuals,
@@ -759,7 +823,9 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             seed,
             scenarios,
             threads,
+            max_memory,
             quiet,
+            allow_long_run,
         } => {
             set_threads(threads)?;
             let o = Overrides {
@@ -770,10 +836,13 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             let inputs = furrow::inputs::load::load(&plan, &o)?;
             let bar = progress::Bar::new(inputs.plan.scenarios as u64, "simulating futures", quiet);
             let cb = |d: usize| bar.set(d as u64);
+            let note = cost_note(quiet);
             let opts = furrow::report::ReportOptions {
                 out: dir.as_deref(),
-                max_memory: memory_limit(None),
+                max_memory: memory_limit(max_memory),
                 progress: Some(&cb),
+                max_seconds: max_seconds(allow_long_run),
+                on_costs: Some(&note),
             };
             let report = furrow::report::run(inputs, &opts)?;
             bar.finish();

@@ -171,6 +171,9 @@ pub enum Error {
     /// The run would need more memory than allowed.
     #[error("{0}")]
     Memory(String),
+    /// The run would take longer than allowed (`--allow-long-run` accepts it).
+    #[error("{0}")]
+    RunTime(String),
     /// The solver failed or did not reach an optimum.
     #[error("{0}")]
     Solver(String),

@@ -2,12 +2,16 @@
 //! prepare the model, forecast the baseline, simulate the futures, build the
 //! allocation problem from the plan's tiers and budget. `allocate`,
 //! `frontier`, `stress`, `track` and `report` all start here, so they agree.
+//! Before anything is simulated, the whole command's peak memory and run
+//! time are estimated ([`crate::simulate::budget`]) for the work it will do
+//! after the simulation ([`Work`]), and a run above the limits is refused.
 
 use crate::allocate::{self, Allocation, Problem, SolveOptions};
 use crate::baseline::run::PlanBaseline;
 use crate::baseline::{BaselineOptions, Method};
 use crate::error::Result;
 use crate::inputs::load::Inputs;
+use crate::simulate::budget::{self, Costs, Job, Sizes};
 use crate::simulate::{self, Futures, Model, RunOptions};
 
 /// Everything simulated for one plan.
@@ -57,9 +61,103 @@ pub fn baseline(inputs: &Inputs) -> Result<PlanBaseline> {
     )
 }
 
-/// Prepares, forecasts and simulates a loaded plan.
+/// What a command does with the futures after simulating them: sizes the
+/// memory and time estimates of the whole command.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub enum Work {
+    /// `simulate` (with `--dump-scenarios` when `dump`).
+    Simulate { dump: bool },
+    /// `allocate` on a plan.
+    #[default]
+    Allocate,
+    /// `frontier` with this many points.
+    Frontier { points: usize },
+    /// `track`.
+    Track,
+    /// `stress` with these presets (empty: the plan's list or all), and
+    /// the preset of `--optimize-under`.
+    Stress {
+        presets: Vec<String>,
+        optimize_under: Option<String>,
+    },
+    /// `report`.
+    Report,
+}
+
+/// The limits a command runs under and who hears of its costs.
+#[derive(Default)]
+pub struct Limits<'a> {
+    /// What the command does after the simulation.
+    pub work: Work,
+    /// Longest estimated run accepted, in seconds (`None`: any).
+    pub max_seconds: Option<f64>,
+    /// Told the estimates once they are within the limits, before the
+    /// simulation starts (the command line prints a note for long runs).
+    pub on_costs: Option<&'a (dyn Fn(&Costs) + Sync)>,
+}
+
+/// The sizes of a loaded plan's job at its scenario count.
+pub fn sizes(inputs: &Inputs, model: &Model) -> Sizes {
+    let words = &inputs.keywords.keywords;
+    Sizes {
+        input_keywords: words.len(),
+        input_text_bytes: words.iter().map(|k| k.text.len() as u64).sum(),
+        ..Sizes::of(model, inputs.plan.scenarios)
+    }
+}
+
+/// The estimate inputs of `work`: its job (with the stress presets read).
+pub fn job(inputs: &Inputs, model: &Model, work: &Work) -> Result<Job> {
+    use crate::analysis::{preset_names_of, stress_sizes};
+    Ok(match work {
+        Work::Simulate { dump } => Job::Simulate { dump: *dump },
+        Work::Allocate => Job::Allocate,
+        Work::Frontier { points } => Job::Frontier { points: *points },
+        Work::Track => Job::Track,
+        Work::Stress {
+            presets,
+            optimize_under,
+        } => {
+            let names = preset_names_of(inputs, presets);
+            Job::Stress {
+                stress: stress_sizes(inputs, model, &names, optimize_under.as_deref())?,
+                optimize_under: optimize_under.is_some(),
+            }
+        }
+        Work::Report => {
+            let names = preset_names_of(inputs, &[]);
+            Job::Report {
+                stress: stress_sizes(inputs, model, &names, None)?,
+            }
+        }
+    })
+}
+
+/// Estimates the command's memory and run time, refuses it above
+/// `max_memory` or `limits.max_seconds`, and tells `limits.on_costs`.
+pub fn guard(inputs: &Inputs, model: &Model, max_memory: u64, limits: &Limits) -> Result<Costs> {
+    let job = job(inputs, model, &limits.work)?;
+    let z = sizes(inputs, model);
+    budget::check_memory(&job, &z, max_memory)?;
+    let costs = Costs::of(&job, &z);
+    budget::check_run_time(&costs.time, limits.max_seconds)?;
+    if let Some(tell) = limits.on_costs {
+        tell(&costs);
+    }
+    Ok(costs)
+}
+
+/// Prepares, forecasts and simulates a loaded plan (guarded as `allocate`,
+/// with no time limit).
 pub fn simulate(inputs: Inputs, opts: &SimOptions) -> Result<Simulated> {
+    simulate_with(inputs, opts, &Limits::default())
+}
+
+/// Prepares a loaded plan, checks the whole command against `limits` and
+/// the memory limit, then forecasts and simulates it.
+pub fn simulate_with(inputs: Inputs, opts: &SimOptions, limits: &Limits) -> Result<Simulated> {
     let model = simulate::prepare(&inputs)?;
+    guard(&inputs, &model, opts.max_memory, limits)?;
     let run = RunOptions {
         scenarios: inputs.plan.scenarios,
         seed: inputs.plan.seed,

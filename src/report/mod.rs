@@ -50,10 +50,26 @@ pub struct ReportOutput {
 pub struct ReportOptions<'a> {
     /// Output folder (default reports/<plan name>/).
     pub out: Option<&'a Path>,
-    /// Memory limit in bytes.
+    /// Memory limit in bytes, for the whole report's estimated peak.
     pub max_memory: u64,
     /// Progress callback for the simulation (futures done).
     pub progress: Option<&'a (dyn Fn(usize) + Sync)>,
+    /// Longest estimated run accepted, in seconds (`None`: any).
+    pub max_seconds: Option<f64>,
+    /// Told the estimated memory and run time before the simulation starts.
+    pub on_costs: Option<&'a (dyn Fn(&crate::simulate::budget::Costs) + Sync)>,
+}
+
+impl Default for ReportOptions<'_> {
+    fn default() -> Self {
+        Self {
+            out: None,
+            max_memory: crate::simulate::engine::default_memory_limit(),
+            progress: None,
+            max_seconds: None,
+            on_costs: None,
+        }
+    }
 }
 
 /// One month of the forecast: baseline and baseline plus the funded plan.
@@ -283,11 +299,16 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
     // Refused before any work: a folder furrow may not replace.
     folder::check_destination(&dir, &protected)?;
     let check = check::summarise(&inputs);
-    let s = pipeline::simulate(
+    let s = pipeline::simulate_with(
         inputs,
         &SimOptions {
             max_memory: opts.max_memory,
             progress: opts.progress,
+        },
+        &pipeline::Limits {
+            work: pipeline::Work::Report,
+            max_seconds: opts.max_seconds,
+            on_costs: opts.on_costs,
         },
     )?;
     let solve = SolveOptions::default();

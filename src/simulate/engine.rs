@@ -63,42 +63,21 @@ pub struct RunOptions<'a> {
     pub progress: Option<&'a (dyn Fn(usize) + Sync)>,
 }
 
-/// Bytes the run and the allocation after it will hold for `scenarios`.
+/// Bytes a `simulate` run of `scenarios` futures will hold at its peak
+/// (see [`super::budget`] for the other commands).
 pub fn memory_estimate(model: &Model, scenarios: usize) -> u64 {
-    let slots = model.slots() as u64;
-    let h = model.horizon() as u64;
-    let per_future = slots * h * 4 // monthly clicks
-        + slots * 4 * 3 // net returns for the allocation, and their copies in the solver
-        + std::mem::size_of::<SiteDraw>() as u64
-        + model.clusters.len() as u64 * 4
-        + h * 8 * 3; // baseline paths and totals
-    per_future * scenarios as u64 + 64 * 1024 * 1024
+    let job = super::budget::Job::Simulate { dump: false };
+    super::budget::memory(&job, &super::budget::Sizes::of(model, scenarios)).bytes
 }
 
 /// Refuses a run that would exceed `max_memory`, naming the largest count that fits.
 pub fn check_memory(model: &Model, scenarios: usize, max_memory: u64) -> Result<()> {
-    let need = memory_estimate(model, scenarios);
-    if need <= max_memory {
-        return Ok(());
-    }
-    let per = memory_estimate(model, 2) - memory_estimate(model, 1);
-    let fits = max_memory.saturating_sub(memory_estimate(model, 0)) / per.max(1);
-    let mib = |bytes: u64| bytes.div_ceil(1024 * 1024);
-    if fits < 100 {
-        // Not even the smallest run (100 futures) fits: say what would.
-        return Err(Error::Memory(format!(
-            "{scenarios} futures would need about {} MiB, above the limit of {} MiB, and even the smallest run (100 futures) needs about {} MiB; raise --max-memory to at least {}",
-            need / (1024 * 1024),
-            max_memory / (1024 * 1024),
-            mib(memory_estimate(model, 100)),
-            mib(memory_estimate(model, 100)),
-        )));
-    }
-    Err(Error::Memory(format!(
-        "{scenarios} futures would need about {} MiB, above the limit of {} MiB; the largest count that fits is {fits} (use --scenarios {fits}, or raise --max-memory)",
-        need / (1024 * 1024),
-        max_memory / (1024 * 1024)
-    )))
+    let job = super::budget::Job::Simulate { dump: false };
+    super::budget::check_memory(
+        &job,
+        &super::budget::Sizes::of(model, scenarios),
+        max_memory,
+    )
 }
 
 /// Half of the machine's memory (the default limit), read from /proc/meminfo;

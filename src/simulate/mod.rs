@@ -5,6 +5,7 @@
 //! futures in parallel from seeded per-future streams, `summary` turns them
 //! into money and distributions.
 
+pub mod budget;
 pub mod engine;
 pub mod kernel;
 pub mod model;
