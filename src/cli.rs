@@ -569,6 +569,9 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 },
         } => {
             use furrow::clicks::{ctr_fit, CtrCurve};
+            if let Some(p) = &path {
+                furrow::fsio::refuse_inputs(p, std::slice::from_ref(&queries), "--out")?;
+            }
             let rows = furrow::inputs::queries::read(&queries, &Default::default())?;
             let rows: Vec<ctr_fit::QueryRow> = rows
                 .into_iter()
@@ -631,6 +634,12 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 ..Overrides::default()
             };
             let inputs = furrow::inputs::load::load(&plan, &o)?;
+            if let Some(path) = &dump_scenarios {
+                let read: Vec<PathBuf> = inputs.files.iter().map(|(_, p)| p.clone()).collect();
+                furrow::fsio::refuse_inputs(path, &read, "--dump-scenarios")?;
+                let costs = furrow::simulate::costs_path(path);
+                furrow::fsio::refuse_inputs(&costs, &read, "--dump-scenarios")?;
+            }
             let model = furrow::simulate::prepare(&inputs)?;
             let note = cost_note(quiet);
             let limits = furrow::pipeline::Limits {

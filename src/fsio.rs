@@ -2,7 +2,8 @@
 //!
 //! Every file furrow writes goes to a temporary name in the same folder and
 //! is renamed into place, so an interrupted run leaves the previous file (or
-//! no file) but never a truncated one.
+//! no file) but never a truncated one. An output file is never one of the
+//! files the run reads ([`refuse_inputs`]).
 
 use crate::error::{Error, Result};
 use std::fs;
@@ -42,4 +43,42 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
 /// Writes `text` to `path` atomically.
 pub fn write_text(path: &Path, text: &str) -> Result<()> {
     write_atomic(path, text.as_bytes())
+}
+
+/// Refuses to write `path` (for `flag`) when it is one of the files the run
+/// reads: writing it would replace the user's input.
+pub fn refuse_inputs(path: &Path, inputs: &[PathBuf], flag: &str) -> Result<()> {
+    let Ok(target) = fs::canonicalize(path) else {
+        return Ok(()); // Not there yet: nothing to replace.
+    };
+    for p in inputs {
+        if fs::canonicalize(p).is_ok_and(|input| input == target) {
+            return Err(Error::Output {
+                what: "the output",
+                path: path.to_path_buf(),
+                message: format!(
+                    "it is {}, which this run reads; give {flag} a file name of its own",
+                    p.display()
+                ),
+            });
+        }
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn an_output_that_is_an_input_is_refused() {
+        let t = tempfile::tempdir().expect("tmp");
+        let input = t.path().join("keywords.csv");
+        fs::write(&input, b"k").expect("write");
+        let inputs = vec![input.clone()];
+        let again = t.path().join(".").join("keywords.csv");
+        let e = refuse_inputs(&again, &inputs, "--out").expect_err("refused");
+        assert!(e.to_string().contains("which this run reads"), "{e}");
+        assert!(refuse_inputs(&t.path().join("new.csv"), &inputs, "--out").is_ok());
+    }
 }

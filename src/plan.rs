@@ -9,6 +9,7 @@
 //! documents every key.
 
 use crate::error::{Error, Issues, Result};
+use crate::inputs::number::echo;
 use crate::month::Month;
 use serde::Deserialize;
 use std::collections::BTreeMap;
@@ -748,11 +749,14 @@ impl Plan {
                     issues,
                     c.name.span(),
                     "name",
-                    format!("the cluster '{name}' is defined twice; expected each cluster once"),
+                    format!(
+                        "the cluster '{}' is defined twice; expected each cluster once",
+                        echo(name)
+                    ),
                 );
             }
             if c.tiers.is_empty() {
-                self.issue(issues, c.name.span(), "tiers", format!("the cluster '{name}' has no tiers; expected at least one {{ cost = ..., effort = ... }}"));
+                self.issue(issues, c.name.span(), "tiers", format!("the cluster '{}' has no tiers; expected at least one {{ cost = ..., effort = ... }}", echo(name)));
             }
             if let Some(s) = &c.start {
                 if Month::parse(s.get_ref()).is_none() {

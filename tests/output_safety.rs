@@ -384,3 +384,52 @@ fn check_flags_a_spike_of_a_trillion_clicks_in_the_history() {
         "{text}"
     );
 }
+
+#[test]
+fn dump_scenarios_onto_an_input_file_is_refused() {
+    let (tmp, dir) = project();
+    let before = tree(tmp.path());
+    let o = furrow(
+        &dir,
+        &[
+            "simulate",
+            "plan.toml",
+            "--scenarios",
+            "100",
+            "--quiet",
+            "--dump-scenarios",
+            "keywords.csv",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("which this run reads"),
+        "{}",
+        stderr(&o)
+    );
+    assert_eq!(tree(tmp.path()), before);
+}
+
+#[test]
+fn ctr_fit_out_onto_its_query_export_is_refused() {
+    let (tmp, dir) = project();
+    let before = tree(tmp.path());
+    let o = furrow(
+        &dir,
+        &[
+            "ctr",
+            "fit",
+            "--queries",
+            "queries.csv",
+            "--out",
+            "queries.csv",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("which this run reads"),
+        "{}",
+        stderr(&o)
+    );
+    assert_eq!(tree(tmp.path()), before);
+}

@@ -347,7 +347,7 @@ fn group(
         let first_line = rs.iter().map(|r| r.line).min().unwrap_or(0);
         for (i, r) in rs.iter().enumerate() {
             if r.tier != i + 1 {
-                let msg = format!("cluster '{name}': expected tier {} here (tiers run 1, 2, 3... once each), found tier {}", i + 1, r.tier);
+                let msg = format!("cluster '{}': expected tier {} here (tiers run 1, 2, 3... once each), found tier {}", echo(&name), i + 1, r.tier);
                 issues.add(file, Some(r.line), Some((&tier_col.0, tier_col.1)), msg);
                 break;
             }

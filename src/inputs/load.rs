@@ -8,6 +8,7 @@ use super::keywords::{self, KeywordSet};
 use super::monthly::{self, MonthlySeries};
 use super::queries::{self, QueryRow};
 use crate::error::{Error, Issues, Result};
+use crate::inputs::number::echo;
 use crate::month::Month;
 use crate::plan::{self, Overrides, Plan};
 use std::path::{Path, PathBuf};
@@ -205,7 +206,7 @@ fn merge_clusters(clusters: &mut Vec<ClusterSpec>, more: Vec<ClusterSpec>, issue
         .collect();
     for c in more {
         if let Some(prev) = at.get(&c.name).map(|&i| &clusters[i]) {
-            let msg = format!("the cluster '{}' is defined both in the plan ({}) and in the cluster file ({}); define it once", c.name, prev.origin, c.origin);
+            let msg = format!("the cluster '{}' is defined both in the plan ({}) and in the cluster file ({}); define it once", echo(&c.name), prev.origin, c.origin);
             let (file, line, (key, col)) = &prev.defined_at;
             issues.add(file, Some(*line), Some((key, *col)), msg);
         } else {
@@ -297,7 +298,7 @@ impl Inputs {
                     Some((key, *col)),
                     format!(
                         "the cluster '{}' has no keywords in {}; expected one of the clusters there: {known}",
-                        c.name, self.keywords.file
+                        echo(&c.name), self.keywords.file
                     ),
                 );
             }
@@ -326,7 +327,7 @@ impl Inputs {
             if c.start
                 .is_some_and(|s| s.since(self.start) >= self.plan.horizon as i32)
             {
-                self.warnings.push(format!("the cluster '{}' starts after the horizon ends; it cannot add anything in this forecast", c.name));
+                self.warnings.push(format!("the cluster '{}' starts after the horizon ends; it cannot add anything in this forecast", echo(&c.name)));
             }
         }
     }
@@ -354,7 +355,7 @@ impl Inputs {
             for (i, (t, m)) in c.tiers.iter().zip(&eff).enumerate() {
                 if *m > t.max_fraction + 1e-12 {
                     let (file, line, (key, col)) = &c.defined_at;
-                    issues.add(file, Some(*line), Some((key, *col)), format!("the cluster '{}': tier {} is capped at max_fraction {} but a tier above it, which builds on it, must be funded at least {m}; expected max_fraction of at least {m}", c.name, i + 1, t.max_fraction));
+                    issues.add(file, Some(*line), Some((key, *col)), format!("the cluster '{}': tier {} is capped at max_fraction {} but a tier above it, which builds on it, must be funded at least {m}; expected max_fraction of at least {m}", echo(&c.name), i + 1, t.max_fraction));
                 }
                 if *m > 0.0 {
                     cost += m * t.cost;

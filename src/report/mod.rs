@@ -548,7 +548,12 @@ fn write_text_files(tmp: &Path, sm: &Summary) -> Result<()> {
         tail_level: sm.allocation.tail_level,
         points: sm.frontier.clone(),
     };
-    write_text(&tmp.join("summary.txt"), &text_summary(sm))?;
+    // Names reach the text file as they are shown on a terminal (control
+    // characters escaped), since it is read with one.
+    write_text(
+        &tmp.join("summary.txt"),
+        &crate::text::visible_lines(&text_summary(sm)),
+    )?;
     write_text(&tmp.join("index.html"), &html::page(sm))?;
     write_text(&tmp.join("summary.json"), &json::to_string(sm)?)?;
     write_text(&tmp.join("allocation.csv"), &csv::to_string(&alloc.rows())?)?;
