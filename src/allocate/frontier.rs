@@ -78,16 +78,21 @@ pub fn frontier(
     }
     let scale = Scale::of(p);
     let q = scale.apply(p);
-    trace(p, &q, scale, points, opts).map_err(|e| scale::explain(p, scale.error(e)))
+    trace(p, &q, scale, points, opts, solve_at).map_err(|e| scale::explain(p, scale.error(e)))
 }
 
-/// The frontier of `p`, solved on `q` (the same problem in program units).
+/// Solves one point: the fractions at a limit (program units).
+type PointSolver = fn(&Problem, &mut Engine, f64, f64, bool) -> Result<Vec<f64>, Failure>;
+
+/// The frontier of `p`, solved on `q` (the same problem in program units),
+/// each point between the ends by `at`.
 fn trace(
     p: &Problem,
     q: &Problem,
     scale: Scale,
     points: usize,
     opts: &SolveOptions,
+    at: PointSolver,
 ) -> Result<Vec<FrontierPoint>, AllocError> {
     let fail = |f: Failure| infeasible(f, q, opts);
     let whole = opts.whole_tiers;
@@ -114,7 +119,7 @@ fn trace(
     let out = (0..points)
         .map(|k| {
             let limit = lo + span * k as f64 / (points - 1) as f64;
-            match solve_at(q, &mut engine, limit, span, whole) {
+            match at(q, &mut engine, limit, span, whole) {
                 Ok(x) => point(p, &means, &x, scale.up(limit)),
                 Err(f) => {
                     let e = scale::explain(p, scale.error(fail(f)));
@@ -163,5 +168,80 @@ fn point(p: &Problem, means: &[f64], x: &[f64], limit: f64) -> FrontierPoint {
         budget_used: Some(x.iter().zip(&p.costs).map(|(a, c)| a * c).sum()),
         allocation: items(p, x),
         missing: None,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::allocate::output::FrontierOutput;
+    use crate::allocate::synthetic::{tiered_instance, SyntheticSpec};
+    use crate::output::Render;
+
+    /// Fails at the third of five evenly spaced limits (the middle one),
+    /// like a backend in numerical trouble; solves the others.
+    fn fail_in_the_middle(
+        q: &Problem,
+        engine: &mut Engine,
+        limit: f64,
+        span: f64,
+        whole: bool,
+    ) -> Result<Vec<f64>, Failure> {
+        let lo = engine.min_tail_loss(q.budget)?;
+        let lo = tail_loss(q, &lo.x);
+        if ((limit - lo) / span - 0.5).abs() < 1e-9 {
+            return Err(Failure::Error(AllocError::Solver {
+                backend: "microlp".into(),
+                message: "Singular matrix".into(),
+            }));
+        }
+        solve_at(q, engine, limit, span, whole)
+    }
+
+    /// Regression (issue #24): one failing frontier point made the whole
+    /// frontier (and the report) fail. It is now a missing point with its
+    /// limit and the reason, shown as such in the table, CSV and JSON.
+    #[test]
+    fn a_frontier_point_that_fails_is_reported_missing() {
+        let p = tiered_instance(SyntheticSpec {
+            clusters: 3,
+            tiers: 2,
+            scenarios: 120,
+            seed: 9,
+        });
+        let opts = SolveOptions::default();
+        let scale = Scale::of(&p);
+        let pts = trace(&p, &p, scale, 5, &opts, fail_in_the_middle).expect("the ends solve");
+        assert_eq!(pts.len(), 5);
+        let missing: Vec<usize> = (0..5).filter(|&k| !pts[k].is_solved()).collect();
+        assert_eq!(missing, vec![2], "only the middle point fails");
+        let m = &pts[2];
+        assert!(m.expected_net_return.is_none() && m.tail_loss.is_none());
+        assert!(m.allocation.is_empty());
+        let why = m.missing.as_deref().unwrap_or_default();
+        assert!(why.contains("Singular matrix"), "{why}");
+        assert!(m.max_tail_loss > pts[1].max_tail_loss && m.max_tail_loss < pts[3].max_tail_loss);
+        assert!(pts[3].tail_loss.is_some_and(|t| t <= pts[3].max_tail_loss + 1e-6));
+
+        let out = FrontierOutput {
+            currency: "EUR".into(),
+            tail_level: p.tail_level,
+            points: pts,
+        };
+        let table = out.table();
+        assert!(table.contains("not solved: "), "{table}");
+        assert!(table.contains("1 of 5 points could not be solved"), "{table}");
+        let rows = out.rows();
+        assert_eq!(rows.header.last().map(String::as_str), Some("missing"));
+        let ids = p.n();
+        assert_eq!(rows.header.len(), 5 + ids + 1, "{:?}", rows.header);
+        let row = &rows.rows[2];
+        assert!(row[1..5].iter().all(String::is_empty), "{row:?}");
+        assert!(row[5 + ids].contains("Singular matrix"));
+        assert!(rows.rows[1][5 + ids].is_empty());
+        let json = serde_json::to_value(&out).expect("serialises");
+        assert!(json["points"][2]["expected_net_return"].is_null());
+        assert!(json["points"][2]["missing"].is_string());
+        assert!(json["points"][1].get("missing").is_none());
     }
 }
