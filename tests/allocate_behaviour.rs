@@ -483,11 +483,7 @@ fn cuts_never_stop_on_a_tail_set_whose_cut_was_never_added() {
         seed: 4,
     });
     let pts = frontier(&p, 6, &with_method(SolveMethod::Full)).expect("frontier");
-    let scale = pts[5]
-        .expected_net_return
-        .expect("solved")
-        .abs()
-        .max(1.0);
+    let scale = pts[5].expected_net_return.expect("solved").abs().max(1.0);
     for pt in &pts {
         full_and_cuts_agree(&p, pt.max_tail_loss, scale, "seed 4");
     }

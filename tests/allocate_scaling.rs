@@ -93,7 +93,10 @@ fn f(v: &Value, key: &str) -> f64 {
 /// figures' own size).
 fn assert_feasible(v: &Value, what: &str) {
     let (used, budget) = (f(v, "budget_used"), f(v, "budget"));
-    assert!(used <= budget * (1.0 + 1e-9), "{what}: spend {used} > {budget}");
+    assert!(
+        used <= budget * (1.0 + 1e-9),
+        "{what}: spend {used} > {budget}"
+    );
     if let Some(limit) = v["max_tail_loss"].as_f64() {
         let t = f(v, "tail_loss");
         assert!(
@@ -238,7 +241,11 @@ fn instance(seed: u64) -> Problem {
 /// Every money figure of `p` times `k` (returns rounded to f32 as stored).
 fn times(p: &Problem, k: f64) -> Problem {
     let mut q = p.clone();
-    q.returns = p.returns.iter().map(|&r| (f64::from(r) * k) as f32).collect();
+    q.returns = p
+        .returns
+        .iter()
+        .map(|&r| (f64::from(r) * k) as f32)
+        .collect();
     q.costs = p.costs.iter().map(|c| c * k).collect();
     q.budget = p.budget * k;
     q.max_tail_loss = p.max_tail_loss.map(|l| l * k);

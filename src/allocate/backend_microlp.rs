@@ -62,10 +62,7 @@ impl WarmModel {
         }
     }
 
-    fn start_then_pin(
-        lp: &LinearProgram,
-        time_limit: Option<Duration>,
-    ) -> Result<Self, LpFailure> {
+    fn start_then_pin(lp: &LinearProgram, time_limit: Option<Duration>) -> Result<Self, LpFailure> {
         let (problem, handles) = build(lp, false);
         let mut options = microlp::SolveOptions::default();
         options.time_limit = time_limit;

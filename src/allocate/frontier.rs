@@ -221,7 +221,9 @@ mod tests {
         let why = m.missing.as_deref().unwrap_or_default();
         assert!(why.contains("Singular matrix"), "{why}");
         assert!(m.max_tail_loss > pts[1].max_tail_loss && m.max_tail_loss < pts[3].max_tail_loss);
-        assert!(pts[3].tail_loss.is_some_and(|t| t <= pts[3].max_tail_loss + 1e-6));
+        assert!(pts[3]
+            .tail_loss
+            .is_some_and(|t| t <= pts[3].max_tail_loss + 1e-6));
 
         let out = FrontierOutput {
             currency: "EUR".into(),
@@ -230,7 +232,10 @@ mod tests {
         };
         let table = out.table();
         assert!(table.contains("not solved: "), "{table}");
-        assert!(table.contains("1 of 5 points could not be solved"), "{table}");
+        assert!(
+            table.contains("1 of 5 points could not be solved"),
+            "{table}"
+        );
         let rows = out.rows();
         assert_eq!(rows.header.last().map(String::as_str), Some("missing"));
         let ids = p.n();

@@ -290,8 +290,45 @@ mod tests {
         let p = problem(vec![1e-4, 1e12], vec![1.0, -1.0e12, 2.0, -1.0e12], 1e13);
         let why = diagnose(&p).expect("a span");
         assert!(why.contains("costs span 16 orders"), "{why}");
-        assert!(why.contains("0.0001 for c0/1") && why.contains("1e12 for c1/1"), "{why}");
+        assert!(
+            why.contains("0.0001 for c0/1") && why.contains("1e12 for c1/1"),
+            "{why}"
+        );
         let ok = problem(vec![10.0, 2000.0], vec![1.0, -5.0, 2.0, 3.0], 100.0);
         assert_eq!(diagnose(&ok), None);
+    }
+
+    /// A numerical failure on data that span too much is refused naming
+    /// the inputs, never as a bare solver message; other errors pass as
+    /// they are.
+    #[test]
+    fn a_numerical_failure_on_a_wide_span_names_the_inputs() {
+        let p = problem(vec![1e-4, 1e12], vec![1.0, -1.0e12, 2.0, -1.0e12], 1e13);
+        let bare = AllocError::Solver {
+            backend: "microlp".into(),
+            message: "Singular matrix".into(),
+        };
+        let e = explain(&p, bare.clone()).to_string();
+        assert!(e.contains("costs span 16 orders of magnitude"), "{e}");
+        assert!(e.contains("Singular matrix"), "{e}");
+        let ok = problem(vec![10.0, 2000.0], vec![1.0, -5.0, 2.0, 3.0], 100.0);
+        assert_eq!(explain(&ok, bare.clone()), bare);
+        let infeasible = AllocError::Infeasible {
+            min_tail_loss: 2.0,
+            limit: 1.0,
+        };
+        assert_eq!(explain(&p, infeasible.clone()), infeasible);
+        let s = Scale {
+            returns: 4.0,
+            costs: 8.0,
+        };
+        assert_eq!(
+            s.error(infeasible),
+            AllocError::Infeasible {
+                min_tail_loss: 8.0,
+                limit: 4.0
+            }
+        );
+        assert_eq!(s.budget_dual_up(2.0), 1.0);
     }
 }

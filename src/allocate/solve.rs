@@ -256,7 +256,10 @@ pub(crate) fn infeasible(f: Failure, p: &Problem, opts: &SolveOptions) -> AllocE
         Failure::Infeasible => {
             let limit = p.max_tail_loss.unwrap_or(0.0);
             match min_tail_loss_scaled(p, opts) {
-                Ok(m) if m > limit => AllocError::Infeasible { min_tail_loss: m, limit },
+                Ok(m) if m > limit => AllocError::Infeasible {
+                    min_tail_loss: m,
+                    limit,
+                },
                 Ok(_) => AllocError::Solver {
                     backend: opts.backend.name().into(),
                     message: "reported no feasible allocation although the smallest tail loss \

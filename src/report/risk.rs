@@ -111,10 +111,7 @@ pub fn frontier(sm: &Summary) -> String {
 
 /// The frontier's line and one marker per point, with its data.
 fn frontier_marks(p: &mut Plot, pts: &[Mark]) {
-    let line: Vec<(f64, f64)> = pts
-        .iter()
-        .map(|q| (q.tail_loss, q.expected))
-        .collect();
+    let line: Vec<(f64, f64)> = pts.iter().map(|q| (q.tail_loss, q.expected)).collect();
     p.line(&line, "s-frontier", &[("data-series", "frontier".into())]);
     p.svg.open("frontier-points", &[]);
     for q in pts {
