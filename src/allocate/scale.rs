@@ -17,9 +17,8 @@
 //! one in other units, bit for bit. Equilibration by powers of two is the
 //! usual LP practice (Tomlin, "On scaling linear programming problems",
 //! Mathematical Programming Study 4, 1975). A group whose largest value is
-//! already between `2^-20` and `2^20` is left as it is: the backend's
-//! tolerances suit it, and plans of ordinary size keep their answers to the
-//! last digit.
+//! already between 1 and `2^20` is left as it is: the backend's tolerances
+//! suit it, and plans of ordinary size keep their answers to the last digit.
 //!
 //! Scaling cannot help when the figures of one group themselves span more
 //! orders of magnitude than the backend's tolerances can resolve; when a
@@ -36,8 +35,10 @@ use std::borrow::Cow;
 /// practice, no source).
 const SPAN_ORDERS: f64 = 9.0;
 
-/// Groups whose largest value has a base-2 logarithm within this many of
-/// zero are not scaled.
+/// Groups whose largest value lies between 1 and `2^LEFT_AS_IS` (about a
+/// million) are not scaled; below 1 the backend's absolute tolerances are
+/// coarse against the data (money of 1e-6 broke cutting planes), above it
+/// fine (returns of 4e9 gave a singular basis).
 const LEFT_AS_IS: f64 = 20.0;
 
 /// The factors money is divided by before solving (powers of two).
@@ -56,7 +57,7 @@ fn factor(largest: f64) -> f64 {
         return 1.0;
     }
     let k = largest.log2().round();
-    if k.abs() <= LEFT_AS_IS {
+    if (0.0..=LEFT_AS_IS).contains(&k) {
         return 1.0;
     }
     // Kept where the scaled f32 returns stay normal numbers.
@@ -280,6 +281,12 @@ mod tests {
     #[test]
     fn moderate_or_zero_data_are_borrowed_unchanged() {
         let p = problem(vec![5200.0, 0.75], vec![36000.0, -1.0, 0.25, 0.0], 24000.0);
+        let small = problem(vec![0.5, 0.25], vec![1e-3, -1e-4, 0.0, 0.0], 1.0);
+        assert_eq!(
+            Scale::of(&small).returns,
+            2f64.powi(-10),
+            "money below 1 is scaled up"
+        );
         assert!(matches!(Scale::of(&p).apply(&p), Cow::Borrowed(_)));
         let z = problem(vec![0.0, 0.0], vec![0.0; 4], 0.0);
         assert!(Scale::of(&z).is_identity());
