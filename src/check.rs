@@ -167,10 +167,10 @@ pub fn render(s: &Summary) -> String {
         .map(|v| money(v, &s.currency))
         .unwrap_or_else(|| "none".into());
     out += &format!(
-        "Budget: {}; tail level {:.2} (the worst {:.0} % of futures); largest tolerated average tail loss: {limit}\n\n",
+        "Budget: {}; tail level {} (the worst {} of futures); largest tolerated average tail loss: {limit}\n\n",
         money(s.budget, &s.currency),
-        s.tail_level,
-        (1.0 - s.tail_level) * 100.0
+        crate::text::tail_level(s.tail_level),
+        crate::text::tail_share(s.tail_level)
     );
     out += &cluster_table(s);
     if !s.warnings.is_empty() {

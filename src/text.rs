@@ -65,6 +65,42 @@ pub fn pct(v: f64, decimals: usize) -> String {
     format!("{} %", number(v * 100.0, decimals))
 }
 
+/// The share of futures a tail level leaves in the tail, as a percentage
+/// with at least two significant digits and no trailing zeros: 0.90 gives
+/// "10 %", 0.975 "2.5 %", 0.999 "0.1 %" (rounding to whole percent printed
+/// "0 %" at 0.999). "n/a" when the level is not in (0, 1).
+pub fn tail_share(level: f64) -> String {
+    if !(level > 0.0 && level < 1.0) {
+        return "n/a".into();
+    }
+    let share = (1.0 - level) * 100.0;
+    let decimals = (1.0 - share.log10().floor()).clamp(0.0, 8.0) as usize;
+    format!("{} %", trim_zeros(format!("{share:.decimals$}")))
+}
+
+/// A tail level with at least two decimals and as many more as it has
+/// (up to six): 0.9 gives "0.90", 0.975 "0.975", 0.999 "0.999" (two
+/// decimals printed "1.00").
+pub fn tail_level(level: f64) -> String {
+    if !level.is_finite() {
+        return "n/a".into();
+    }
+    let s = trim_zeros(format!("{level:.6}"));
+    match s.split_once('.') {
+        Some((_, f)) if f.len() >= 2 => s,
+        _ => format!("{level:.2}"),
+    }
+}
+
+/// "2.50" as "2.5", "10.00" as "10"; text without a decimal point unchanged.
+fn trim_zeros(s: String) -> String {
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
 /// An optional ratio with two decimals, "n/a" when absent (cost 0) or not
 /// finite.
 pub fn ratio(v: Option<f64>) -> String {
@@ -183,6 +219,22 @@ mod tests {
         assert_eq!(int(999.4), "999");
         assert_eq!(int(-0.2), "0");
         assert_eq!(int(f64::NAN), "n/a");
+    }
+
+    /// Regression (issue #24): at a tail level of 0.999 the tail was
+    /// printed as "the worst 0 % of futures".
+    #[test]
+    fn tail_share_prints_the_real_share_at_0_999_and_0_975() {
+        assert_eq!(tail_share(0.999), "0.1 %");
+        assert_eq!(tail_share(0.975), "2.5 %");
+        assert_eq!(tail_share(0.9), "10 %");
+        assert_eq!(tail_share(0.95), "5 %");
+        assert_eq!(tail_share(0.5), "50 %");
+        assert_eq!(tail_share(0.9999), "0.01 %");
+        assert_eq!(tail_share(1.0), "n/a");
+        assert_eq!(tail_level(0.999), "0.999");
+        assert_eq!(tail_level(0.9), "0.90");
+        assert_eq!(tail_level(0.975), "0.975");
     }
 
     #[test]

@@ -327,3 +327,40 @@ fn a_share_limit_follows_the_budget_flag() {
     let both = run(&["--budget", "20000", "--max-tail-loss", "700"]);
     assert!((limit(&both) - 700.0).abs() < 1e-9);
 }
+
+/// Regression (issue #24): at a tail level of 0.999 the table and the
+/// explanation said "the worst 0 % of futures". The real share is printed
+/// with the digits it needs.
+#[test]
+fn the_tail_share_is_printed_with_its_digits_at_0_999_and_0_975() {
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = tmp.path();
+    let mut returns = String::from("a,b\n");
+    for s in 0..2000 {
+        returns += &format!("{},{}\n", (s % 7) as f64 - 2.0, (s % 5) as f64 - 1.5);
+    }
+    write(dir, "r.csv", returns.as_bytes());
+    write(dir, "c.csv", b"id,cost\na,10\nb,20\n");
+    for (level, share) in [("0.999", "0.1 %"), ("0.975", "2.5 %")] {
+        let o = furrow(
+            dir,
+            &[
+                "allocate",
+                "--returns",
+                "r.csv",
+                "--costs",
+                "c.csv",
+                "--budget",
+                "30",
+                "--tail-level",
+                level,
+            ],
+        );
+        assert!(o.status.success(), "{}", stderr(&o));
+        let text = stdout(&o);
+        assert!(!text.contains("worst 0 %"), "{text}");
+        assert!(!text.contains("worst 3 %"), "{text}");
+        let wanted = format!("worst {share} of futures");
+        assert!(text.matches(&wanted).count() >= 2, "{wanted} in {text}");
+    }
+}

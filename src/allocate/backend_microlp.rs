@@ -44,11 +44,26 @@ pub(crate) struct WarmModel {
 
 impl WarmModel {
     /// Builds and solves `lp` with its declared bounds, then pins fixed columns.
+    ///
+    /// Pinning re-optimises by the dual simplex from the unpinned optimum;
+    /// when the pinned program's feasible set is a single degenerate point
+    /// (all-zero futures under a tail-loss limit of 0) that path has reported
+    /// a feasible program infeasible. An infeasible answer is therefore
+    /// confirmed by a cold solve with the pinned values as bounds.
     pub(crate) fn start(
         lp: &LinearProgram,
         time_limit: Option<Duration>,
     ) -> Result<Self, LpFailure> {
-        let (problem, handles) = build(lp);
+        match Self::start_then_pin(lp, time_limit) {
+            Err(LpFailure::Infeasible) if lp.columns.iter().any(|c| c.fixed.is_some()) => {
+                Self::start_pinned(lp, time_limit)
+            }
+            other => other,
+        }
+    }
+
+    fn start_then_pin(lp: &LinearProgram, time_limit: Option<Duration>) -> Result<Self, LpFailure> {
+        let (problem, handles) = build(lp, false);
         let mut options = microlp::SolveOptions::default();
         options.time_limit = time_limit;
         let outcome = guarded(|| problem.solve_with(options))?;
@@ -62,6 +77,18 @@ impl WarmModel {
             }
         }
         Ok(model)
+    }
+
+    /// Builds `lp` with pinned columns held at their values and solves it.
+    fn start_pinned(lp: &LinearProgram, time_limit: Option<Duration>) -> Result<Self, LpFailure> {
+        let (problem, handles) = build(lp, true);
+        let mut options = microlp::SolveOptions::default();
+        options.time_limit = time_limit;
+        let outcome = guarded(|| problem.solve_with(options))?;
+        Ok(Self {
+            state: Some(accept(outcome)?),
+            handles,
+        })
     }
 
     /// Adds a row and re-optimises from the last basis.
@@ -98,7 +125,9 @@ fn lost() -> LpFailure {
     LpFailure::Failed("the warm-started model was lost after an earlier failure".into())
 }
 
-fn build(lp: &LinearProgram) -> (microlp::Problem, Vec<microlp::Variable>) {
+/// The microlp problem of `lp`; with `pinned`, fixed columns get their
+/// value as both bounds, else their declared range.
+fn build(lp: &LinearProgram, pinned: bool) -> (microlp::Problem, Vec<microlp::Variable>) {
     let direction = match lp.sense {
         Sense::Maximize => OptimizationDirection::Maximize,
         Sense::Minimize => OptimizationDirection::Minimize,
@@ -107,7 +136,7 @@ fn build(lp: &LinearProgram) -> (microlp::Problem, Vec<microlp::Variable>) {
     let handles: Vec<microlp::Variable> = lp
         .columns
         .iter()
-        .map(|c| add_column(&mut problem, c))
+        .map(|c| add_column(&mut problem, c, pinned))
         .collect();
     for row in &lp.rows {
         problem.add_constraint(linear_expr(row, &handles), comparison(row.op), row.rhs);
@@ -115,14 +144,23 @@ fn build(lp: &LinearProgram) -> (microlp::Problem, Vec<microlp::Variable>) {
     (problem, handles)
 }
 
-fn add_column(problem: &mut microlp::Problem, c: &super::lp::Column) -> microlp::Variable {
+fn add_column(
+    problem: &mut microlp::Problem,
+    c: &super::lp::Column,
+    pinned: bool,
+) -> microlp::Variable {
+    let (lower, upper) = if pinned {
+        c.active_bounds()
+    } else {
+        (c.lower, c.upper)
+    };
     if c.integer {
         // Integer columns here are whole-tier switches with bounds inside [0, 1].
-        let lo = c.lower.ceil().clamp(-1e9, 1e9) as i32;
-        let hi = c.upper.floor().clamp(-1e9, 1e9) as i32;
+        let lo = lower.ceil().clamp(-1e9, 1e9) as i32;
+        let hi = upper.floor().clamp(-1e9, 1e9) as i32;
         problem.add_integer_var(c.objective, (lo, hi.max(lo)))
     } else {
-        problem.add_var(c.objective, (c.lower, c.upper))
+        problem.add_var(c.objective, (lower, upper))
     }
 }
 

@@ -8,7 +8,7 @@ use super::problem::Problem;
 use super::result::Item;
 use super::solve::{solve, SolveOptions};
 use crate::output::{Render, Rows};
-use crate::text::{money, table, Align::*};
+use crate::text::{money, table, tail_level, Align::*};
 use serde::Serialize;
 
 /// One budget of the sweep.
@@ -78,7 +78,7 @@ impl Render for BudgetSweepOutput {
             .max_tail_loss
             .map(|l| money(l, cur))
             .unwrap_or_else(|| "none".into());
-        let mut out = format!("Best expected net return as the budget grows (tail-loss limit {limit} at level {:.2}).\n\n", self.tail_level);
+        let mut out = format!("Best expected net return as the budget grows (tail-loss limit {limit} at level {}).\n\n", tail_level(self.tail_level));
         let rows: Vec<Vec<String>> = self
             .points
             .iter()
@@ -119,12 +119,12 @@ impl Render for BudgetSweepOutput {
             ],
             |p| {
                 let figures = vec![
-                    p.budget,
-                    p.budget_used,
-                    p.expected_net_return,
-                    p.tail_loss,
-                    p.value_at_risk,
-                    p.budget_dual,
+                    Some(p.budget),
+                    Some(p.budget_used),
+                    Some(p.expected_net_return),
+                    Some(p.tail_loss),
+                    Some(p.value_at_risk),
+                    Some(p.budget_dual),
                 ];
                 (figures, &p.allocation)
             },

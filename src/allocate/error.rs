@@ -97,6 +97,16 @@ pub enum AllocError {
         reason: String,
     },
 
+    /// The solve failed numerically and the data span more orders of
+    /// magnitude than the backend can resolve: the message names them.
+    #[error("the allocation cannot be solved reliably: {why} (the LP solver reported: {detail})")]
+    Scale {
+        /// Which inputs span too many orders of magnitude, and what to do.
+        why: String,
+        /// The failure it explains.
+        detail: String,
+    },
+
     /// The backend was not compiled in.
     #[error("the {backend} LP backend is not built in: rebuild with `--features {backend}`")]
     BackendUnavailable {

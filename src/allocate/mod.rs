@@ -32,6 +32,7 @@ mod model;
 pub mod output;
 mod problem;
 mod result;
+mod scale;
 mod solve;
 pub mod synthetic;
 mod verify;

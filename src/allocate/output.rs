@@ -5,8 +5,8 @@
 
 use super::frontier::FrontierPoint;
 use super::result::Allocation;
-use crate::output::{num, Render, Rows};
-use crate::text::{money, pct, ratio, table, Align::*};
+use crate::output::{num, opt, Render, Rows};
+use crate::text::{money, pct, ratio, table, tail_level, tail_share, Align::*};
 use serde::Serialize;
 
 /// An allocation with the currency to print it in.
@@ -44,11 +44,11 @@ impl Render for AllocationOutput {
             .max_tail_loss
             .map(|v| money(v, cur))
             .unwrap_or_else(|| "none".into());
-        let worst = (1.0 - a.tail_level) * 100.0;
+        let worst = tail_share(a.tail_level);
         let tail = if a.tail_loss >= 0.0 {
-            format!("Tail loss (CVaR, average loss in the worst {worst:.0} % of futures): {} (limit {limit})", money(a.tail_loss, cur))
+            format!("Tail loss (CVaR, average loss in the worst {worst} of futures): {} (limit {limit})", money(a.tail_loss, cur))
         } else {
-            format!("Tail loss (CVaR): none; even the worst {worst:.0} % of futures gain {} on average (limit {limit})", money(-a.tail_loss, cur))
+            format!("Tail loss (CVaR): none; even the worst {worst} of futures gain {} on average (limit {limit})", money(-a.tail_loss, cur))
         };
         out += &format!(
             "\nBudget used: {} of {}\nExpected net return: {} (ROI {})\n{tail}\nValue at risk at the same level: {}\nChance of a loss: {}\n",
@@ -102,28 +102,33 @@ pub struct FrontierOutput {
 impl Render for FrontierOutput {
     fn table(&self) -> String {
         let cur = &self.currency;
+        let money_of = |v: Option<f64>| v.map_or_else(|| "missing".to_string(), |v| money(v, cur));
         let rows: Vec<Vec<String>> = self
             .points
             .iter()
             .map(|p| {
-                let funded: Vec<String> = p
-                    .allocation
-                    .iter()
-                    .filter(|i| i.fraction > 1e-6)
-                    .map(|i| format!("{} {:.0}%", i.id, i.fraction * 100.0))
-                    .collect();
+                let funded = match &p.missing {
+                    Some(why) => format!("not solved: {why}"),
+                    None => p
+                        .allocation
+                        .iter()
+                        .filter(|i| i.fraction > 1e-6)
+                        .map(|i| format!("{} {:.0}%", i.id, i.fraction * 100.0))
+                        .collect::<Vec<String>>()
+                        .join(", "),
+                };
                 vec![
                     money(p.max_tail_loss, cur),
-                    money(p.expected_net_return, cur),
-                    money(p.tail_loss, cur),
-                    money(p.budget_used, cur),
-                    funded.join(", "),
+                    money_of(p.expected_net_return),
+                    money_of(p.tail_loss),
+                    money_of(p.budget_used),
+                    funded,
                 ]
             })
             .collect();
         let mut out = format!(
-            "Efficient frontier: best expected net return for each limit on the tail loss (CVaR at level {:.2}).\n\n",
-            self.tail_level
+            "Efficient frontier: best expected net return for each limit on the tail loss (CVaR at level {}).\n\n",
+            tail_level(self.tail_level)
         );
         out += &table(
             &[
@@ -136,11 +141,18 @@ impl Render for FrontierOutput {
             &[Right, Right, Right, Right, Left],
             &rows,
         );
+        let missing = self.points.iter().filter(|p| !p.is_solved()).count();
+        if missing > 0 {
+            out += &format!(
+                "{missing} of {} points could not be solved and are marked missing.\n",
+                self.points.len()
+            );
+        }
         out
     }
 
     fn rows(&self) -> Rows {
-        sweep_rows(
+        let mut rows = sweep_rows(
             &self.points,
             &[
                 "max_tail_loss",
@@ -151,7 +163,7 @@ impl Render for FrontierOutput {
             ],
             |p| {
                 let figures = vec![
-                    p.max_tail_loss,
+                    Some(p.max_tail_loss),
                     p.expected_net_return,
                     p.tail_loss,
                     p.value_at_risk,
@@ -159,21 +171,33 @@ impl Render for FrontierOutput {
                 ];
                 (figures, &p.allocation)
             },
-        )
+        );
+        // The reason column appears only when a point is missing, so a
+        // complete frontier keeps its columns.
+        if self.points.iter().any(|p| !p.is_solved()) {
+            rows.header.push("missing".into());
+            for (row, p) in rows.rows.iter_mut().zip(&self.points) {
+                row.push(p.missing.clone().unwrap_or_default());
+            }
+        }
+        rows
     }
 }
 
 /// The CSV rows of a sweep (the frontier over the tail-loss limit or over
-/// the budget): the point's figures under `head`, then one
-/// `fraction:<id>` column per id of the first point's allocation.
+/// the budget): the point's figures under `head` (empty when absent), then
+/// one `fraction:<id>` column per id, named from the first point that has
+/// an allocation (a missing point has none; its fraction cells are empty).
 pub(crate) fn sweep_rows<P>(
     points: &[P],
     head: &[&str],
-    row: impl Fn(&P) -> (Vec<f64>, &Vec<super::result::Item>),
+    row: impl Fn(&P) -> (Vec<Option<f64>>, &Vec<super::result::Item>),
 ) -> Rows {
     let ids: Vec<String> = points
-        .first()
-        .map(|p| row(p).1.iter().map(|i| i.id.clone()).collect())
+        .iter()
+        .map(|p| row(p).1)
+        .find(|a| !a.is_empty())
+        .map(|a| a.iter().map(|i| i.id.clone()).collect())
         .unwrap_or_default();
     let mut header: Vec<String> = head.iter().map(|h| h.to_string()).collect();
     header.extend(ids.iter().map(|i| format!("fraction:{i}")));
@@ -181,8 +205,12 @@ pub(crate) fn sweep_rows<P>(
         .iter()
         .map(|p| {
             let (figures, allocation) = row(p);
-            let mut v: Vec<String> = figures.into_iter().map(num).collect();
-            v.extend(allocation.iter().map(|i| num(i.fraction)));
+            let mut v: Vec<String> = figures.into_iter().map(opt).collect();
+            if allocation.is_empty() {
+                v.extend(ids.iter().map(|_| String::new()));
+            } else {
+                v.extend(allocation.iter().map(|i| num(i.fraction)));
+            }
             v
         })
         .collect();

@@ -255,7 +255,7 @@ fn dual_lines(p: &Problem, a: &Allocation) -> Vec<String> {
 }
 
 fn downside_line(a: &Allocation) -> String {
-    let tail = pct(1.0 - a.tail_level);
+    let tail = crate::text::tail_share(a.tail_level);
     format!(
         "In the worst {tail} of futures the average loss is {} (CVaR); losses exceed {} (VaR) in {tail} of futures; the chance of a loss is {}.",
         amount(a.tail_loss),

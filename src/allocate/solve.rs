@@ -12,6 +12,7 @@ use super::error::AllocError;
 use super::lp::Backend;
 use super::problem::Problem;
 use super::result::{assemble, Allocation, Duals, Provenance};
+use super::scale::{self, Scale};
 use super::verify::verify;
 use serde::Serialize;
 use std::time::Duration;
@@ -97,21 +98,40 @@ impl SolveOptions {
 }
 
 /// The best allocation within the budget and the tail-loss limit.
+///
+/// The program is solved with its money scaled to magnitudes near one
+/// (`scale.rs`); the answer is assembled and verified on the problem as
+/// given, in its own currency.
 pub fn solve(p: &Problem, opts: &SolveOptions) -> Result<Allocation, AllocError> {
     p.validate()?;
     opts.validate()?;
+    let scale = Scale::of(p);
+    let q = scale.apply(p);
+    solve_scaled(p, &q, scale, opts).map_err(|e| scale::explain(p, scale.error(e)))
+}
+
+/// `solve` on `q`, the problem `p` in program units.
+fn solve_scaled(
+    p: &Problem,
+    q: &Problem,
+    scale: Scale,
+    opts: &SolveOptions,
+) -> Result<Allocation, AllocError> {
     let Continuous {
         mut engine,
         base,
         duals,
         rounds,
-    } = continuous(p, opts)?;
+    } = continuous(q, opts)?;
     let mut how = provenance(&engine, opts, duals, rounds);
-    let mut x = polish(p, &base.x, p.max_tail_loss, &mut engine);
+    how.duals.budget = scale.budget_dual_up(how.duals.budget);
+    how.duals.budget_below = how.duals.budget_below.map(|d| scale.budget_dual_up(d));
+    let mut x = polish(q, &base.x, q.max_tail_loss, &mut engine);
     add_note(&mut how, engine.fallback.take());
     if opts.whole_tiers {
-        let whole = solve_whole(p, opts, base.objective)?;
-        how.whole_tiers_gap = Some((base.objective - whole.point.objective).max(0.0));
+        let whole = solve_whole(q, opts, base.objective)?;
+        let gap = (base.objective - whole.point.objective).max(0.0);
+        how.whole_tiers_gap = Some(scale.up(gap));
         how.method = whole.method.name().to_string();
         how.cuts_rounds = whole.rounds;
         how.dual_method = format!(
@@ -121,7 +141,9 @@ pub fn solve(p: &Problem, opts: &SolveOptions) -> Result<Allocation, AllocError>
         add_note(&mut how, whole.fallback);
         x = whole.point.x;
     }
-    let a = assemble(p, engine.means(), &x, how);
+    // Scaling by a power of two is exact, so these are the means of `p`.
+    let means: Vec<f64> = engine.means().iter().map(|&m| scale.up(m)).collect();
+    let a = assemble(p, &means, &x, how);
     verify(p, &a, opts.verify_tolerance)?;
     Ok(a)
 }
@@ -226,17 +248,23 @@ fn solve_whole(p: &Problem, opts: &SolveOptions, continuous: f64) -> Result<Whol
 }
 
 /// Turns a failure into the error to report; infeasibility becomes
-/// `Infeasible` with the smallest achievable tail loss.
+/// `Infeasible` with the smallest achievable tail loss. `p` is the problem
+/// the engine solved (in program units).
 pub(crate) fn infeasible(f: Failure, p: &Problem, opts: &SolveOptions) -> AllocError {
     match f {
         Failure::Error(e) => e,
         Failure::Infeasible => {
             let limit = p.max_tail_loss.unwrap_or(0.0);
-            match min_tail_loss(p, opts) {
-                Ok(m) if m > limit => AllocError::Infeasible { min_tail_loss: m, limit },
-                Ok(m) => AllocError::Solver {
+            match min_tail_loss_scaled(p, opts) {
+                Ok(m) if m > limit => AllocError::Infeasible {
+                    min_tail_loss: m,
+                    limit,
+                },
+                Ok(_) => AllocError::Solver {
                     backend: opts.backend.name().into(),
-                    message: format!("reported no feasible allocation although the tail loss {m} is reachable under the limit {limit}"),
+                    message: "reported no feasible allocation although the smallest tail loss \
+                              is within the limit"
+                        .into(),
                 },
                 Err(e) => e,
             }
@@ -249,6 +277,14 @@ pub(crate) fn infeasible(f: Failure, p: &Problem, opts: &SolveOptions) -> AllocE
 pub fn min_tail_loss(p: &Problem, opts: &SolveOptions) -> Result<f64, AllocError> {
     p.validate()?;
     opts.validate()?;
+    let scale = Scale::of(p);
+    let q = scale.apply(p);
+    min_tail_loss_scaled(&q, opts)
+        .map(|v| scale.up(v))
+        .map_err(|e| scale::explain(p, scale.error(e)))
+}
+
+fn min_tail_loss_scaled(p: &Problem, opts: &SolveOptions) -> Result<f64, AllocError> {
     let mut engine = Engine::new(p, opts, opts.whole_tiers);
     let point = engine.min_tail_loss(p.budget).map_err(|f| match f {
         Failure::Error(e) => e,

@@ -233,16 +233,15 @@ fn decision(
     } else {
         format!("fund {}", funded.join(", "))
     };
+    let share = crate::text::tail_share(a.tail_level);
     let tail = if a.tail_loss >= 0.0 {
         format!(
-            "in the worst {:.0} % of futures the average loss is {}",
-            (1.0 - a.tail_level) * 100.0,
+            "in the worst {share} of futures the average loss is {}",
             money(a.tail_loss, cur)
         )
     } else {
         format!(
-            "even the worst {:.0} % of futures gain {} on average",
-            (1.0 - a.tail_level) * 100.0,
+            "even the worst {share} of futures gain {} on average",
             money(-a.tail_loss, cur)
         )
     };
@@ -328,7 +327,14 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
                 Some(a) => Some(analysis::track_report(&s, &chosen, a)?),
                 None => None,
             };
-            let frontier = allocate::frontier(&problem, 11, &solve)?;
+            // A frontier point that fails comes back missing; if the ends of
+            // the frontier fail, the report says so instead of stopping.
+            let frontier = allocate::frontier(&problem, 11, &solve).unwrap_or_else(|e| {
+                vec![allocate::FrontierPoint::missing(
+                    chosen.tail_loss,
+                    format!("the frontier could not be traced: {e}"),
+                )]
+            });
             let net = crate::stress::portfolio_net(&s.model, &s.futures, &fractions)?;
             let forecast = forecast_rows(&s, &fractions)?;
             let clusters = summarise_futures(

@@ -15,17 +15,28 @@ use super::Summary;
 use crate::allocate::{Allocation, FrontierPoint};
 use crate::drivers::{Driver, DriverTable};
 
-/// The tail as words: 0.9 gives "10 %".
-pub fn tail_share(level: f64) -> String {
-    super::svg::pct(1.0 - level, 0)
+pub use crate::text::tail_share;
+
+/// A solved frontier point as the chart draws it.
+struct Mark {
+    limit: f64,
+    tail_loss: f64,
+    expected: f64,
+    spend: f64,
 }
 
-fn frontier_points(sm: &Summary) -> Vec<&FrontierPoint> {
-    let mut pts: Vec<&FrontierPoint> = sm
-        .frontier
-        .iter()
-        .filter(|p| p.tail_loss.is_finite() && p.expected_net_return.is_finite())
-        .collect();
+/// The solved points in order of tail loss; a missing point (one the
+/// solver could not answer) is skipped, the tables say why.
+fn frontier_points(sm: &Summary) -> Vec<Mark> {
+    let mark = |p: &FrontierPoint| {
+        Some(Mark {
+            limit: p.max_tail_loss,
+            tail_loss: p.tail_loss.filter(|v| v.is_finite())?,
+            expected: p.expected_net_return.filter(|v| v.is_finite())?,
+            spend: p.budget_used.unwrap_or(0.0),
+        })
+    };
+    let mut pts: Vec<Mark> = sm.frontier.iter().filter_map(mark).collect();
     pts.sort_by(|a, b| a.tail_loss.total_cmp(&b.tail_loss));
     pts
 }
@@ -42,11 +53,11 @@ fn span_of(it: impl Iterator<Item = f64>) -> (f64, f64) {
 /// that does not bind) would squeeze the frontier into a corner, so it is
 /// stated in words instead (`false`). Differences below a thousandth of the
 /// budget (or one unit) are solver noise, not a frontier, and get no axis.
-fn frontier_ranges(sm: &Summary, pts: &[&FrontierPoint]) -> ((f64, f64), (f64, f64), bool) {
+fn frontier_ranges(sm: &Summary, pts: &[Mark]) -> ((f64, f64), (f64, f64), bool) {
     let (a, b) = (&sm.allocation, &sm.best_expected_return);
     let tails = pts.iter().map(|p| p.tail_loss);
     let (x0, x1) = span_of(tails.chain([a.tail_loss, b.tail_loss]));
-    let ys = pts.iter().map(|p| p.expected_net_return);
+    let ys = pts.iter().map(|p| p.expected);
     let y = span_of(ys.chain([a.expected_net_return, b.expected_net_return]));
     let room = ((x1 - x0) * 0.5)
         .max(x1.abs().max(x0.abs()) * 0.05)
@@ -99,21 +110,18 @@ pub fn frontier(sm: &Summary) -> String {
 }
 
 /// The frontier's line and one marker per point, with its data.
-fn frontier_marks(p: &mut Plot, pts: &[&FrontierPoint]) {
-    let line: Vec<(f64, f64)> = pts
-        .iter()
-        .map(|q| (q.tail_loss, q.expected_net_return))
-        .collect();
+fn frontier_marks(p: &mut Plot, pts: &[Mark]) {
+    let line: Vec<(f64, f64)> = pts.iter().map(|q| (q.tail_loss, q.expected)).collect();
     p.line(&line, "s-frontier", &[("data-series", "frontier".into())]);
     p.svg.open("frontier-points", &[]);
     for q in pts {
         let attrs = [
             ("data-tail-loss", data(q.tail_loss)),
-            ("data-expected", data(q.expected_net_return)),
-            ("data-limit", data(q.max_tail_loss)),
-            ("data-spend", data(q.budget_used)),
+            ("data-expected", data(q.expected)),
+            ("data-limit", data(q.limit)),
+            ("data-spend", data(q.spend)),
         ];
-        let (x, y) = (q.tail_loss, q.expected_net_return);
+        let (x, y) = (q.tail_loss, q.expected);
         p.marker(x, y, Shape::Circle, "m-frontier", &attrs);
     }
     p.svg.close();
@@ -188,7 +196,7 @@ fn point_label(p: &mut Plot, at: (f64, f64), text: &str, below: bool) {
     p.svg.text((tx, ty), anchor, "point-label", text);
 }
 
-fn frontier_desc(sm: &Summary, pts: &[&FrontierPoint]) -> String {
+fn frontier_desc(sm: &Summary, pts: &[Mark]) -> String {
     let cur = &sm.currency;
     let list: Vec<String> = pts
         .iter()
@@ -196,7 +204,7 @@ fn frontier_desc(sm: &Summary, pts: &[&FrontierPoint]) -> String {
             format!(
                 "tail loss {} gives {}",
                 number(q.tail_loss, 0),
-                number(q.expected_net_return, 0)
+                number(q.expected, 0)
             )
         })
         .collect();

@@ -177,18 +177,34 @@ pub fn frontier(sm: &Summary) -> String {
         .frontier
         .iter()
         .map(|p| {
-            [
-                p.max_tail_loss,
-                p.tail_loss,
-                p.value_at_risk,
-                p.expected_net_return,
-                p.budget_used,
-            ]
-            .map(|v| money(v, cur))
-            .to_vec()
+            let mut row = vec![money(p.max_tail_loss, cur)];
+            row.extend(
+                [
+                    p.tail_loss,
+                    p.value_at_risk,
+                    p.expected_net_return,
+                    p.budget_used,
+                ]
+                .map(|v| v.map_or_else(|| "missing".to_string(), |v| money(v, cur))),
+            );
+            row
         })
         .collect();
     s += &table("Frontier points", &FRONTIER_HEADER, &rows);
+    let missing: Vec<String> = sm
+        .frontier
+        .iter()
+        .filter_map(|p| {
+            let why = p.missing.as_ref()?;
+            Some(format!("limit {}: {why}", money(p.max_tail_loss, cur)))
+        })
+        .collect();
+    if !missing.is_empty() {
+        s += &para(&format!(
+            "Points marked missing could not be solved and are left off the chart: {}.",
+            missing.join("; ")
+        ));
+    }
     s
 }
 

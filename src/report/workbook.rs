@@ -21,7 +21,7 @@ use crate::simulate::summary::{Outcome, TierResult};
 use crate::simulate::SimSummary;
 use crate::stats::Stats;
 use crate::target::{Metric, TargetReport};
-use crate::text::{int, money, pct};
+use crate::text::{int, money, pct, tail_share};
 use rust_xlsxwriter::{ColNum, Format, FormatBorder, RowNum, Workbook, Worksheet, XlsxError};
 use std::path::PathBuf;
 
@@ -499,7 +499,8 @@ fn forecast_table(rows: &[ForecastRow]) -> Table {
 fn frontier_table(sm: &Summary) -> Table {
     let ids: Vec<&str> = sm
         .frontier
-        .first()
+        .iter()
+        .find(|p| !p.allocation.is_empty())
         .map(|p| p.allocation.iter().map(|i| i.id.as_str()).collect())
         .unwrap_or_default();
     let funded: Vec<String> = ids.iter().map(|i| format!("funded: {i}")).collect();
@@ -513,14 +514,15 @@ fn frontier_table(sm: &Summary) -> Table {
     header.extend(funded.iter().map(String::as_str));
     let mut t = Table::new(&header, 1);
     for p in &sm.frontier {
+        // A missing point (not solved) has empty cells; the notes say why.
         let mut row: Vec<Cell> = [
-            p.max_tail_loss,
+            Some(p.max_tail_loss),
             p.expected_net_return,
             p.tail_loss,
             p.value_at_risk,
             p.budget_used,
         ]
-        .map(|v| num(v, Kind::Money))
+        .map(|v| opt(v, Kind::Money))
         .to_vec();
         row.extend(ids.iter().map(|id| {
             let f = p.allocation.iter().find(|i| i.id == *id);
@@ -530,15 +532,22 @@ fn frontier_table(sm: &Summary) -> Table {
     }
     t.notes = vec![format!(
         "Best expected net return for each limit on the tail loss (CVaR: average loss in the worst {} of futures).",
-        pct(1.0 - sm.allocation.tail_level, 0)
+        tail_share(sm.allocation.tail_level)
     )];
+    t.notes.extend(sm.frontier.iter().filter_map(|p| {
+        let why = p.missing.as_ref()?;
+        Some(format!(
+            "The point at the limit {} is missing (not solved): {why}",
+            money(p.max_tail_loss, &sm.currency)
+        ))
+    }));
     t
 }
 
 /// Stress tests of the chosen allocation, the base case first.
 fn stress_table(sm: &Summary) -> Table {
     let s = &sm.stress;
-    let tail = format!("tail loss (worst {})", pct(1.0 - s.tail_level, 0));
+    let tail = format!("tail loss (worst {})", tail_share(s.tail_level));
     let mut t = Table::new(
         &[
             "case",
@@ -780,7 +789,7 @@ fn figure(label: &str, cell: Cell) -> Line {
 /// Headline figures of the chosen allocation as label/value lines.
 fn headline_lines(sm: &Summary) -> Vec<Line> {
     let a = &sm.allocation;
-    let worst = pct(1.0 - a.tail_level, 0);
+    let worst = tail_share(a.tail_level);
     let m = |v: f64| num(v, Kind::Money);
     vec![
         figure("Budget", m(a.budget)),

@@ -233,7 +233,10 @@ impl crate::output::Render for StressReport {
             money(self.spend, cur),
             int(self.scenarios as f64)
         );
-        let tail = format!("tail loss ({} worst)", pct(1.0 - self.tail_level, 0));
+        let tail = format!(
+            "tail loss ({} worst)",
+            crate::text::tail_share(self.tail_level)
+        );
         out += &table(
             &[
                 "case",
