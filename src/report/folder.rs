@@ -383,15 +383,16 @@ pub fn remove_stale(dir: &Path) {
         let Some(pid) = pid else { continue };
         let gone = proc_fs && !Path::new(&format!("/proc/{pid}")).exists();
         if gone && pid != std::process::id() {
+            // A run killed before its marker was in place leaves only the
+            // marker's temporary name: still nothing but furrow's files.
             let path = e.path();
-            match classify(&path) {
-                Ok(Destination::Empty) => {
-                    let _ = std::fs::remove_dir(&path);
-                }
-                Ok(Destination::Report) => {
-                    let _ = remove_report(&path);
-                }
-                _ => {}
+            let ours = list(&path).is_ok_and(|entries| {
+                entries
+                    .iter()
+                    .all(|(name, is_file)| *is_file && is_report_file(name))
+            });
+            if ours {
+                let _ = remove_report(&path);
             }
         }
     }
@@ -543,6 +544,29 @@ mod tests {
         assert!(name_the_folder(e, &tmp, dir)
             .to_string()
             .starts_with("cannot write reports/plan: "));
+    }
+
+    #[test]
+    fn stale_folders_of_dead_runs_are_removed_only_when_all_theirs() {
+        let t = tempfile::tempdir().expect("tmp");
+        let dir = t.path().join("out");
+        // pid 999999999 runs nowhere.
+        let cases: [(&str, &[&str], bool); 4] = [
+            (".out.tmp-999999999", &["..furrow-report.tmp-999999999"], true),
+            (".out.old-999999998", &[MARKER, "index.html"], true),
+            (".out.tmp-999999997", &[], true),
+            (".out.tmp-999999996", &[MARKER, "mine.txt"], false),
+        ];
+        for (name, files, _) in &cases {
+            std::fs::create_dir(t.path().join(name)).expect("mkdir");
+            for f in files.iter() {
+                touch(&t.path().join(name).join(f));
+            }
+        }
+        remove_stale(&dir);
+        for (name, _, removed) in &cases {
+            assert_eq!(!t.path().join(name).exists(), *removed, "{name}");
+        }
     }
 
     #[test]
