@@ -28,5 +28,45 @@ fn bench_keywords(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, bench_keywords);
+/// Loading a plan of 20,000 one-tier clusters with its keyword list (issue
+/// 24: 13.5 s before names were matched through hash maps and lines found
+/// by a binary search).
+fn bench_plan(c: &mut Criterion) {
+    use std::fmt::Write as _;
+    let tmp = tempfile::tempdir().expect("temporary folder");
+    let opts = furrow::demo::DemoOptions {
+        keywords: 200,
+        clusters: 4,
+        months: 24,
+        seed: 3,
+    };
+    furrow::demo::generate(tmp.path(), &opts).expect("demo data");
+    let plan = std::fs::read_to_string(tmp.path().join("plan.toml")).expect("plan");
+    let head = plan.split("\n[[cluster]]").next().expect("a head");
+    let mut text = head.replace("keywords.csv", "many.csv") + "\n";
+    let mut kw = String::from("keyword,cluster,volume,position,difficulty\n");
+    for i in 0..20_000 {
+        let _ = write!(
+            text,
+            "[[cluster]]\nname = \"c{i}\"\ntiers = [{{ cost = 100, effort = 1 }}]\n\n"
+        );
+        let _ = writeln!(kw, "kw {i},c{i},100,20,30");
+    }
+    let path = tmp.path().join("big.toml");
+    std::fs::write(&path, text).expect("plan");
+    std::fs::write(tmp.path().join("many.csv"), kw).expect("keywords");
+    let mut g = c.benchmark_group("readers");
+    g.sample_size(10);
+    g.bench_function("plan_20k_clusters", |b| {
+        b.iter(|| {
+            let inputs =
+                furrow::inputs::load::load(&path, &Default::default()).expect("valid plan");
+            let summary = furrow::check::summarise(&inputs);
+            assert_eq!(summary.clusters.len(), 20_000);
+        })
+    });
+    g.finish();
+}
+
+criterion_group!(benches, bench_keywords, bench_plan);
 criterion_main!(benches);

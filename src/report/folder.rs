@@ -552,7 +552,11 @@ mod tests {
         let dir = t.path().join("out");
         // pid 999999999 runs nowhere.
         let cases: [(&str, &[&str], bool); 4] = [
-            (".out.tmp-999999999", &["..furrow-report.tmp-999999999"], true),
+            (
+                ".out.tmp-999999999",
+                &["..furrow-report.tmp-999999999"],
+                true,
+            ),
             (".out.old-999999998", &[MARKER, "index.html"], true),
             (".out.tmp-999999997", &[], true),
             (".out.tmp-999999996", &[MARKER, "mine.txt"], false),
