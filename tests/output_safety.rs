@@ -385,51 +385,41 @@ fn check_flags_a_spike_of_a_trillion_clicks_in_the_history() {
     );
 }
 
-#[test]
-fn dump_scenarios_onto_an_input_file_is_refused() {
-    let (tmp, dir) = project();
-    let before = tree(tmp.path());
-    let o = furrow(
-        &dir,
-        &[
-            "simulate",
-            "plan.toml",
-            "--scenarios",
-            "100",
-            "--quiet",
-            "--dump-scenarios",
-            "keywords.csv",
-        ],
-    );
+/// Runs `args` in the project and asserts the run was refused as writing
+/// over a file it reads, with nothing under `root` changed.
+fn refused_over_an_input(root: &Path, dir: &Path, args: &[&str]) {
+    let before = tree(root);
+    let o = furrow(dir, args);
     assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
     assert!(
         stderr(&o).contains("which this run reads"),
         "{}",
         stderr(&o)
     );
-    assert_eq!(tree(tmp.path()), before);
+    assert_eq!(tree(root), before);
+}
+
+#[test]
+fn dump_scenarios_onto_an_input_file_is_refused() {
+    let (tmp, dir) = project();
+    let args = ["simulate", "plan.toml", "--scenarios", "100", "--quiet"];
+    refused_over_an_input(
+        tmp.path(),
+        &dir,
+        &[&args[..], &["--dump-scenarios", "keywords.csv"]].concat(),
+    );
 }
 
 #[test]
 fn ctr_fit_out_onto_its_query_export_is_refused() {
     let (tmp, dir) = project();
-    let before = tree(tmp.path());
-    let o = furrow(
-        &dir,
-        &[
-            "ctr",
-            "fit",
-            "--queries",
-            "queries.csv",
-            "--out",
-            "queries.csv",
-        ],
-    );
-    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
-    assert!(
-        stderr(&o).contains("which this run reads"),
-        "{}",
-        stderr(&o)
-    );
-    assert_eq!(tree(tmp.path()), before);
+    let args = [
+        "ctr",
+        "fit",
+        "--queries",
+        "queries.csv",
+        "--out",
+        "queries.csv",
+    ];
+    refused_over_an_input(tmp.path(), &dir, &args);
 }
