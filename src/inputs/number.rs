@@ -464,11 +464,11 @@ impl Convention {
     }
 }
 
-/// The message for a cell left ambiguous; `declare` says how the user
-/// declares the file's convention (a plan key or a flag).
+/// The message for a cell left ambiguous; `declare` ends it, saying how
+/// the user declares the file's convention (a plan key or a flag).
 pub fn ambiguous_message(a: &Ambiguous, declare: &str) -> String {
     format!(
-        "'{}' reads as {} with a decimal comma (dots grouping thousands) but as {} with a decimal point, and no other number in the file settles which; declare the file's number format with {declare}",
+        "'{}' reads as {} with a decimal comma (dots grouping thousands) but as {} with a decimal point, and no other number in the file settles which; {declare}",
         a.raw,
         a.comma,
         a.point,

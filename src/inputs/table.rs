@@ -324,7 +324,11 @@ pub fn open_as(
             source,
         })?;
     }
+    // Records end at '\n' only: with the default CRLF terminator the csv
+    // crate numbers the lines of a CRLF file one too low. A '\r' left at
+    // the end of a last cell is trimmed with the other whitespace.
     let reader = csv::ReaderBuilder::new()
+        .terminator(csv::Terminator::Any(b'\n'))
         .delimiter(delimiter)
         .flexible(true)
         .has_headers(false)
