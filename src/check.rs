@@ -44,6 +44,10 @@ pub struct Summary {
     pub max_tail_loss: Option<f64>,
     pub clusters: Vec<ClusterSummary>,
     pub warnings: Vec<String>,
+    /// The number format each CSV file was read with (plan key, file,
+    /// format). Kept out of the report's JSON, which predates it.
+    #[serde(skip)]
+    pub numbers: Vec<(String, String, crate::inputs::number::NumberFormat)>,
 }
 
 /// Reads every model file the plan uses (click-through curves, rank-gain
@@ -107,6 +111,7 @@ pub fn summarise(inp: &Inputs) -> Summary {
         max_tail_loss: inp.plan.max_tail_loss,
         clusters: cluster_summaries(inp),
         warnings: inp.warnings.clone(),
+        numbers: inp.numbers.clone(),
     }
 }
 
@@ -178,6 +183,22 @@ pub fn render(s: &Summary) -> String {
         for w in &s.warnings {
             out += &format!("  - {w}\n");
         }
+    }
+    out
+}
+
+/// One line per CSV file read: the number convention it was read with
+/// (decimal mark, grouping marks, and what settled them). `furrow check`
+/// prints these after the summary; the report's summary.txt, whose paths
+/// are the report's own, does not.
+pub fn render_numbers(s: &Summary) -> String {
+    let mut out = String::new();
+    if s.numbers.is_empty() {
+        return out;
+    }
+    out += "\nNumber formats read:\n";
+    for (key, file, format) in &s.numbers {
+        out += &format!("  {key}, {file}: {format}\n");
     }
     out
 }

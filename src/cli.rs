@@ -35,6 +35,12 @@ enum CtrAction {
         /// Bins with fewer impressions fall back to the default curve's shape.
         #[arg(long, default_value_t = 100.0)]
         min_impressions: f64,
+        /// Map a column to the header your export uses: --map clicks="Clicks" (repeatable).
+        #[arg(long = "map", value_name = "NAME=HEADER")]
+        map: Vec<String>,
+        /// How the export writes 1234.5 ("1,234.5" or "1.234,5"), when its numbers cannot tell.
+        #[arg(long, value_name = "FORMAT")]
+        numbers: Option<String>,
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
     },
@@ -275,6 +281,12 @@ enum Command {
         /// Search-interest index (month, index) for --method index-growth.
         #[arg(long)]
         index: Option<PathBuf>,
+        /// Map a column to the header your export uses: --map clicks="Clicks per month" (repeatable; history and index).
+        #[arg(long = "map", value_name = "NAME=HEADER")]
+        map: Vec<String>,
+        /// How the files write 1234.5 ("1,234.5" or "1.234,5"), when their numbers cannot tell.
+        #[arg(long, value_name = "FORMAT")]
+        numbers: Option<String>,
         /// Bootstrap residuals instead of Gaussian errors for the intervals.
         #[arg(long)]
         bootstrap: bool,
@@ -472,7 +484,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             // The model files and the economics are read too, so a broken
             // model file is found here and not halfway through a report.
             furrow::check::models(&inputs)?;
-            let text = furrow::check::render(&furrow::check::summarise(&inputs));
+            let summary = furrow::check::summarise(&inputs);
+            let text = furrow::check::render(&summary) + &furrow::check::render_numbers(&summary);
             out(&furrow::text::visible_lines(&text))?;
         }
         Command::Init { dir } => {
@@ -511,6 +524,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             phi,
             init,
             index,
+            map,
+            numbers,
             bootstrap,
             paths,
             seed,
@@ -535,20 +550,21 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 seed,
                 ..BaselineOptions::default()
             };
-            let no_map = Default::default();
-            let hist = monthly::read(
+            use furrow::inputs::table::{parse_map_flags, parse_numbers_flag, ReadSettings};
+            let specs: &[&[_]] = &[monthly::HISTORY_COLUMNS, monthly::INDEX_COLUMNS];
+            let map = parse_map_flags(&map, specs)?;
+            let settings = ReadSettings::flags(&map, parse_numbers_flag(numbers.as_deref())?);
+            let (hist, _) = monthly::read_with(
                 &history,
                 monthly::HISTORY_COLUMNS,
-                &no_map,
+                &settings,
                 monthly::NON_NEGATIVE,
             )?;
             let idx = match &index {
-                Some(p) => Some(monthly::read(
-                    p,
-                    monthly::INDEX_COLUMNS,
-                    &no_map,
-                    monthly::INDEX_RANGE,
-                )?),
+                Some(p) => Some(
+                    monthly::read_with(p, monthly::INDEX_COLUMNS, &settings, monthly::INDEX_RANGE)?
+                        .0,
+                ),
                 None => None,
             };
             let start = hist
@@ -565,6 +581,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                     brand,
                     out: path,
                     min_impressions,
+                    map,
+                    numbers,
                     format,
                 },
         } => {
@@ -572,7 +590,10 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             if let Some(p) = &path {
                 furrow::fsio::refuse_inputs(p, std::slice::from_ref(&queries), "--out")?;
             }
-            let rows = furrow::inputs::queries::read(&queries, &Default::default())?;
+            use furrow::inputs::table::{parse_map_flags, parse_numbers_flag, ReadSettings};
+            let map = parse_map_flags(&map, &[furrow::inputs::queries::QUERY_COLUMNS])?;
+            let settings = ReadSettings::flags(&map, parse_numbers_flag(numbers.as_deref())?);
+            let (rows, _) = furrow::inputs::queries::read_with(&queries, &settings)?;
             let rows: Vec<ctr_fit::QueryRow> = rows
                 .into_iter()
                 .map(|r| ctr_fit::QueryRow {
@@ -805,11 +826,18 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 &sim,
                 furrow::pipeline::Work::Track,
             )?;
-            let no_map = Default::default();
-            let a = furrow::inputs::monthly::read(
+            // The plan's [inputs.columns.actuals] and [inputs.numbers]
+            // actuals apply to the file given here too.
+            let cfg = &s.inputs.plan.file.inputs;
+            let settings = furrow::inputs::table::ReadSettings::plan(
+                "actuals",
+                &cfg.columns.actuals,
+                cfg.numbers.get("actuals"),
+            );
+            let (a, _) = furrow::inputs::monthly::read_with(
                 &actuals,
                 furrow::inputs::monthly::ACTUALS_COLUMNS,
-                &no_map,
+                &settings,
                 furrow::inputs::monthly::NON_NEGATIVE,
             )?;
             let mut issues = furrow::error::Issues::default();

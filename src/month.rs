@@ -29,9 +29,15 @@ impl Month {
     }
 
     /// Parses `YYYY-MM`, also `YYYY-MM-01` (a first-of-month date, as some
-    /// exports write months) and `YYYY/MM`.
+    /// exports write months), `YYYYMM` and `YYYY/MM`. Day-first or
+    /// month-first dates (`01/02/2024`) are not months: they read
+    /// differently in different countries, so they are refused (see
+    /// [`expected`]).
     pub fn parse(text: &str) -> Option<Month> {
         let t = text.trim();
+        if t.len() == 6 && t.bytes().all(|b| b.is_ascii_digit()) {
+            return Month::new(t[..4].parse().ok()?, t[4..].parse().ok()?);
+        }
         let t = t.strip_suffix("-01").filter(|s| s.len() == 7).unwrap_or(t);
         let (y, m) = t.split_once(['-', '/'])?;
         if y.len() != 4 || m.is_empty() || m.len() > 2 {
@@ -71,6 +77,26 @@ impl Month {
     }
 }
 
+/// The message for a cell that is not a month: the forms that work, and
+/// why a date such as `01/02/2024` is not read.
+pub fn expected(text: &str) -> String {
+    let shown = crate::inputs::number::echo(text.trim());
+    let forms = "expected a month as YYYY-MM (2025-03), YYYY-MM-01 (2025-03-01) or YYYYMM (202503)";
+    let parts: Vec<&str> = text.trim().split(['/', '.', '-']).collect();
+    let dated = parts.len() == 3
+        && parts
+            .iter()
+            .all(|p| !p.is_empty() && p.bytes().all(|b| b.is_ascii_digit()))
+        && parts[2].len() == 4
+        && parts[0].len() <= 2
+        && parts[1].len() <= 2;
+    if dated {
+        format!("{forms}, found the date '{shown}', which reads as a different month day-first and month-first")
+    } else {
+        format!("{forms}, found '{shown}'")
+    }
+}
+
 impl fmt::Display for Month {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(f, "{:04}-{:02}", self.year(), self.month())
@@ -93,6 +119,7 @@ mod tests {
         assert_eq!((m.year(), m.month()), (2025, 3));
         assert_eq!(Month::parse("2025-03-01"), Some(m));
         assert_eq!(Month::parse("2025/3"), Some(m));
+        assert_eq!(Month::parse("202503"), Some(m));
         for bad in [
             "2025-13",
             "2025-00",
@@ -101,9 +128,22 @@ mod tests {
             "March 2025",
             "",
             "2025-3x",
+            "202513",
+            "01/03/2025",
+            "03/01/2025",
+            "20253",
         ] {
             assert_eq!(Month::parse(bad), None, "{bad}");
         }
+    }
+
+    #[test]
+    fn a_day_first_or_month_first_date_is_refused_with_the_forms_that_work() {
+        let e = expected("01/02/2024");
+        assert!(e.contains("YYYY-MM (2025-03)"), "{e}");
+        assert!(e.contains("YYYYMM (202503)"), "{e}");
+        assert!(e.contains("day-first and month-first"), "{e}");
+        assert!(!expected("2024-13").contains("day-first"));
     }
 
     #[test]

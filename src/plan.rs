@@ -38,6 +38,45 @@ pub struct InputsCfg {
     pub actuals: Option<String>,
     #[serde(default)]
     pub columns: ColumnsCfg,
+    /// `[inputs.numbers]`: each file's number format, when its cells
+    /// cannot tell.
+    #[serde(default)]
+    pub numbers: NumbersCfg,
+}
+
+/// `[inputs.numbers]`: how a file writes 1234.5 (`"1,234.5"`, `"1.234,5"`,
+/// `"1 234,5"`, ...), for files whose cells do not settle the decimal mark.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct NumbersCfg {
+    pub history: Option<Spanned<String>>,
+    pub interest: Option<Spanned<String>>,
+    pub keywords: Option<Spanned<String>>,
+    pub queries: Option<Spanned<String>>,
+    pub clusters: Option<Spanned<String>>,
+    pub actuals: Option<Spanned<String>>,
+}
+
+impl NumbersCfg {
+    fn entries(&self) -> [(&'static str, &Option<Spanned<String>>); 6] {
+        [
+            ("history", &self.history),
+            ("interest", &self.interest),
+            ("keywords", &self.keywords),
+            ("queries", &self.queries),
+            ("clusters", &self.clusters),
+            ("actuals", &self.actuals),
+        ]
+    }
+
+    /// The declared decimal mark of the file under `[inputs] <key>`.
+    pub fn get(&self, key: &str) -> Option<crate::inputs::number::Decimal> {
+        self.entries()
+            .iter()
+            .find(|(k, _)| *k == key)
+            .and_then(|(_, v)| v.as_ref())
+            .and_then(|v| crate::inputs::number::Decimal::parse_declared(v.get_ref()))
+    }
 }
 
 /// `[inputs.columns.*]`: header names of exports that differ from ours.
@@ -600,10 +639,25 @@ impl Plan {
             }
             self.scenarios = v.clamp(100, 10_000_000) as usize;
         }
+        self.check_numbers(issues);
         self.check_budget(issues);
         self.check_economics(issues);
         self.check_target(issues);
         self.check_clusters(issues);
+    }
+
+    /// Each `[inputs.numbers]` value must show how the file writes 1234.5.
+    fn check_numbers(&self, issues: &mut Issues) {
+        for (key, v) in self.file.inputs.numbers.entries() {
+            let Some(v) = v else { continue };
+            if crate::inputs::number::Decimal::parse_declared(v.get_ref()).is_none() {
+                let msg = format!(
+                    "[inputs.numbers] {key} must show how the file writes one thousand two hundred thirty-four and a half: \"1,234.5\" or \"1234.5\" (decimal point), \"1.234,5\", \"1 234,5\" or \"1234,5\" (decimal comma); found '{}'",
+                    echo(v.get_ref())
+                );
+                self.issue(issues, v.span(), key, msg);
+            }
+        }
     }
 
     fn check_budget(&mut self, issues: &mut Issues) {

@@ -56,6 +56,11 @@ fn semicolon_file_with_bom_crlf_and_thousands_separators_loads() {
         out += "\r\n";
     }
     write(&dir, "history.csv", out.as_bytes());
+    // Every value is "12,345"-like, which a decimal-comma export reads as
+    // 12.345: the plan declares the file's convention (issue 14).
+    let plan = std::fs::read_to_string(dir.join("plan.toml")).unwrap();
+    let plan = plan + "\n[inputs.numbers]\nhistory = \"1,234.5\"\n";
+    write(&dir, "plan.toml", plan.as_bytes());
     let o = check(&dir);
     assert!(o.status.success(), "{}", stderr(&o));
     // Same clicks total as before the rewrite.

@@ -7,8 +7,8 @@
 //! `gain_over` (positions-gained or final-position), `gain_min`, `gain_mode`,
 //! `gain_max`, `gain_lambda`.
 
-use super::number::{echo, NumberKind};
-use super::table::{self, optional, required, ColumnSpec};
+use super::number::{echo, Convention, NumberFormat, NumberKind};
+use super::table::{self, optional, required, ColumnSpec, Pass, ReadSettings};
 use crate::error::{Issues, Result};
 use crate::month::Month;
 use crate::plan::{ClusterCfg, GainCfg, Plan};
@@ -164,9 +164,24 @@ struct Row {
     line: u64,
 }
 
-/// Reads clusters from a CSV file.
+/// Reads clusters from a CSV file (as a plan's `clusters` file, nothing
+/// declared).
 pub fn read(path: &Path, mapping: &BTreeMap<String, String>) -> Result<Vec<ClusterSpec>> {
-    let mut t = table::open(path, CLUSTER_COLUMNS, mapping)?;
+    read_with(path, &ReadSettings::plan("clusters", mapping, None)).map(|r| r.0)
+}
+
+/// Reads clusters with `settings`; returns them and the number format they
+/// were read with.
+pub fn read_with(path: &Path, settings: &ReadSettings) -> Result<(Vec<ClusterSpec>, NumberFormat)> {
+    table::twice(settings, |conv| read_once(path, settings, conv))
+}
+
+fn read_once(
+    path: &Path,
+    settings: &ReadSettings,
+    conv: Convention,
+) -> Result<Pass<Vec<ClusterSpec>>> {
+    let mut t = table::open_with(path, CLUSTER_COLUMNS, settings, conv)?;
     let mut issues = Issues::default();
     let mut rows = Vec::new();
     while t.next_row(&mut issues) {
@@ -180,7 +195,7 @@ pub fn read(path: &Path, mapping: &BTreeMap<String, String>) -> Result<Vec<Clust
     );
     let columns = (t.column(0), t.column(1));
     let clusters = group(&t.file, columns, rows, &mut issues);
-    issues.into_result(clusters)
+    Ok(t.finish(issues, clusters))
 }
 
 fn read_row(t: &table::Table, issues: &mut Issues) -> Option<Row> {
@@ -250,11 +265,7 @@ fn read_start(t: &table::Table, issues: &mut Issues) -> Option<Option<Month>> {
         Some(s) => match Month::parse(s) {
             Some(m) => Some(Some(m)),
             None => {
-                t.complain(
-                    4,
-                    issues,
-                    format!("expected a month as YYYY-MM, found '{}'", echo(s)),
-                );
+                t.complain(4, issues, crate::month::expected(s));
                 None
             }
         },

@@ -5,8 +5,8 @@
 //! keyword on a hit), so hundreds of thousands of rows load quickly. A blank
 //! position means "not in the top 100".
 
-use super::number::{echo, parse_bool, NumberKind};
-use super::table::{self, optional, required, ColumnSpec};
+use super::number::{echo, parse_bool, Convention, NumberFormat, NumberKind};
+use super::table::{self, optional, required, ColumnSpec, Pass, ReadSettings};
 use crate::error::{Issues, Result};
 use std::collections::hash_map::DefaultHasher;
 use std::collections::{BTreeMap, HashMap};
@@ -86,9 +86,19 @@ struct Loader {
     issues: Issues,
 }
 
-/// Reads the keyword list.
+/// Reads the keyword list (as a plan's `keywords` file, nothing declared).
 pub fn read(path: &Path, mapping: &BTreeMap<String, String>) -> Result<KeywordSet> {
-    let mut t = table::open(path, KEYWORD_COLUMNS, mapping)?;
+    read_with(path, &ReadSettings::plan("keywords", mapping, None)).map(|r| r.0)
+}
+
+/// Reads the keyword list with `settings`; returns it and the number
+/// format it was read with.
+pub fn read_with(path: &Path, settings: &ReadSettings) -> Result<(KeywordSet, NumberFormat)> {
+    table::twice(settings, |conv| read_once(path, settings, conv))
+}
+
+fn read_once(path: &Path, settings: &ReadSettings, conv: Convention) -> Result<Pass<KeywordSet>> {
+    let mut t = table::open_with(path, KEYWORD_COLUMNS, settings, conv)?;
     let mut l = Loader {
         set: KeywordSet {
             file: t.file.clone(),
@@ -104,7 +114,7 @@ pub fn read(path: &Path, mapping: &BTreeMap<String, String>) -> Result<KeywordSe
         }
     }
     t.expect_rows(&mut l.issues, "one row per keyword");
-    l.issues.into_result(l.set)
+    Ok(t.finish(l.issues, l.set))
 }
 
 impl Loader {
@@ -114,7 +124,7 @@ impl Loader {
         let cluster = t.text(CLUSTER, issues).map(str::to_string);
         let volume = t.number_in(VOLUME, 0.0, f64::INFINITY, NumberKind::Plain, issues);
         let position = read_position(t, issues);
-        let difficulty = t.number_in(DIFFICULTY, 0.0, 100.0, NumberKind::Rate, issues);
+        let difficulty = t.number_in(DIFFICULTY, 0.0, 100.0, NumberKind::Score, issues);
         let branded = read_branded(t, issues);
         let (text, cluster) = (text?, cluster?);
         if text.is_empty() {

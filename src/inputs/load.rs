@@ -6,7 +6,9 @@
 use super::clusters::{self, ClusterSpec};
 use super::keywords::{self, KeywordSet};
 use super::monthly::{self, MonthlySeries};
+use super::number::NumberFormat;
 use super::queries::{self, QueryRow};
+use super::table::ReadSettings;
 use crate::error::{Error, Issues, Result};
 use crate::inputs::number::echo;
 use crate::month::Month;
@@ -43,6 +45,8 @@ pub struct Inputs {
     pub warnings: Vec<String>,
     /// Every input file read (label, path), for reproducibility hashes.
     pub files: Vec<(String, PathBuf)>,
+    /// The number format of each CSV file read: plan key, file, format.
+    pub numbers: Vec<(String, String, NumberFormat)>,
 }
 
 /// Loads the plan at `path`, applies `overrides`, and loads its inputs.
@@ -68,9 +72,21 @@ fn required_path(
     }
 }
 
-fn keep<T>(r: Result<T>, issues: &mut Issues) -> Result<Option<T>> {
+/// Keeps a file's input problems for the report of every file together
+/// (other errors stop at once), and records the number format the file
+/// was read with in `numbers` under `key`.
+fn keep_read<T>(
+    key: &str,
+    path: &Path,
+    r: Result<(T, NumberFormat)>,
+    numbers: &mut Vec<(String, String, NumberFormat)>,
+    issues: &mut Issues,
+) -> Result<Option<T>> {
     match r {
-        Ok(v) => Ok(Some(v)),
+        Ok((v, f)) => {
+            numbers.push((key.to_string(), path.display().to_string(), f));
+            Ok(Some(v))
+        }
         Err(Error::Input(i)) => {
             issues.extend(i);
             Ok(None)
@@ -84,71 +100,66 @@ pub fn load_inputs(plan: Plan) -> Result<Inputs> {
     let mut issues = Issues::default();
     let cfg = plan.file.inputs.clone();
     let cols = &cfg.columns;
+    let nums = &cfg.numbers;
+    let mut numbers = Vec::new();
+    let numbers_ref = &mut numbers;
+    let set = |key: &str, map| ReadSettings::plan(key, map, nums.get(key));
     let mut files = vec![("plan".to_string(), plan.path.clone())];
     let hist_path = required_path(&plan, "history", &cfg.history, &mut issues);
     let kw_path = required_path(&plan, "keywords", &cfg.keywords, &mut issues);
     let history = match &hist_path {
-        Some(p) => keep(
-            monthly::read(
+        Some(p) => keep_read(
+            "history",
+            p,
+            monthly::read_with(
                 p,
                 monthly::HISTORY_COLUMNS,
-                &cols.history,
+                &set("history", &cols.history),
                 monthly::NON_NEGATIVE,
             ),
+            numbers_ref,
             &mut issues,
         )?,
         None => None,
     };
     let keywords = match &kw_path {
-        Some(p) => keep(keywords::read(p, &cols.keywords), &mut issues)?,
+        Some(p) => keep_read(
+            "keywords",
+            p,
+            keywords::read_with(p, &set("keywords", &cols.keywords)),
+            numbers_ref,
+            &mut issues,
+        )?,
         None => None,
     };
-    let interest = optional(
-        &plan,
-        &cfg.interest,
-        &mut files,
-        "interest",
-        &mut issues,
-        |p| {
-            monthly::read(
-                p,
-                monthly::INDEX_COLUMNS,
-                &cols.interest,
-                monthly::INDEX_RANGE,
-            )
-        },
-    )?;
-    let queries = optional(
-        &plan,
-        &cfg.queries,
-        &mut files,
-        "queries",
-        &mut issues,
-        |p| queries::read(p, &cols.queries),
-    )?;
-    let actuals = optional(
-        &plan,
-        &cfg.actuals,
-        &mut files,
-        "actuals",
-        &mut issues,
-        |p| {
-            monthly::read(
-                p,
-                monthly::ACTUALS_COLUMNS,
-                &cols.actuals,
-                monthly::NON_NEGATIVE,
-            )
-        },
-    )?;
-    let csv_clusters = optional(
-        &plan,
-        &cfg.clusters,
-        &mut files,
-        "clusters",
-        &mut issues,
-        |p| clusters::read(p, &cols.clusters),
-    )?;
+    let mut opt = Optional {
+        plan: &plan,
+        files: &mut files,
+        numbers: numbers_ref,
+        issues: &mut issues,
+    };
+    let interest = opt.read(&cfg.interest, "interest", |p| {
+        monthly::read_with(
+            p,
+            monthly::INDEX_COLUMNS,
+            &set("interest", &cols.interest),
+            monthly::INDEX_RANGE,
+        )
+    })?;
+    let queries = opt.read(&cfg.queries, "queries", |p| {
+        queries::read_with(p, &set("queries", &cols.queries))
+    })?;
+    let actuals = opt.read(&cfg.actuals, "actuals", |p| {
+        monthly::read_with(
+            p,
+            monthly::ACTUALS_COLUMNS,
+            &set("actuals", &cols.actuals),
+            monthly::NON_NEGATIVE,
+        )
+    })?;
+    let csv_clusters = opt.read(&cfg.clusters, "clusters", |p| {
+        clusters::read_with(p, &set("clusters", &cols.clusters))
+    })?;
     for (label, p) in [("history", &hist_path), ("keywords", &kw_path)] {
         if let Some(p) = p {
             files.insert(1, (label.to_string(), p.clone()));
@@ -177,6 +188,7 @@ pub fn load_inputs(plan: Plan) -> Result<Inputs> {
         actuals,
         warnings: Vec::new(),
         files,
+        numbers,
     };
     inputs.cross_check(&mut issues, clusters_unread);
     let inputs = issues.into_result(inputs)?;
@@ -184,18 +196,27 @@ pub fn load_inputs(plan: Plan) -> Result<Inputs> {
     Ok(inputs)
 }
 
-fn optional<T>(
-    plan: &Plan,
-    value: &Option<String>,
-    files: &mut Vec<(String, PathBuf)>,
-    label: &str,
-    issues: &mut Issues,
-    read: impl FnOnce(&Path) -> Result<T>,
-) -> Result<Option<T>> {
-    let Some(v) = value else { return Ok(None) };
-    let p = plan.resolve(v);
-    files.push((label.to_string(), p.clone()));
-    keep(read(&p), issues)
+/// What reading an optional input needs.
+struct Optional<'a> {
+    plan: &'a Plan,
+    files: &'a mut Vec<(String, PathBuf)>,
+    numbers: &'a mut Vec<(String, String, NumberFormat)>,
+    issues: &'a mut Issues,
+}
+
+impl Optional<'_> {
+    /// Reads the file the plan names under `[inputs] <label>`, if any.
+    fn read<T>(
+        &mut self,
+        value: &Option<String>,
+        label: &str,
+        read: impl FnOnce(&Path) -> Result<(T, NumberFormat)>,
+    ) -> Result<Option<T>> {
+        let Some(v) = value else { return Ok(None) };
+        let p = self.plan.resolve(v);
+        self.files.push((label.to_string(), p.clone()));
+        keep_read(label, &p, read(&p), self.numbers, self.issues)
+    }
 }
 
 fn merge_clusters(clusters: &mut Vec<ClusterSpec>, more: Vec<ClusterSpec>, issues: &mut Issues) {

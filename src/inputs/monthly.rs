@@ -3,10 +3,12 @@
 //! All three are a `month` column plus numbers. Months must be consecutive,
 //! with no gaps and no duplicates; rows may come in any order and are sorted.
 //! Every value must be a finite number (non-negative for counts and money);
-//! a blank cell in a present column is refused rather than guessed.
+//! a blank cell in a present column is refused rather than guessed. Months
+//! are read by `Month::parse` (`2024-01`, `2024-01-01`, `202401`); forms
+//! such as `01/02/2024`, which read as two different months, are refused.
 
-use super::number::NumberKind;
-use super::table::{self, optional, required, ColumnSpec};
+use super::number::{Convention, NumberFormat, NumberKind};
+use super::table::{self, optional, required, ColumnSpec, Pass, ReadSettings};
 use crate::error::{Issues, Result};
 use crate::month::Month;
 use std::collections::BTreeMap;
@@ -84,19 +86,34 @@ pub struct ValueRule {
     pub min: f64,
     /// Largest allowed value.
     pub max: f64,
+    /// What a percent sign means in the file's columns.
+    pub kind: NumberKind,
 }
 
-/// Counts and money: non-negative.
+/// Counts and money: non-negative, no percentages.
 pub const NON_NEGATIVE: ValueRule = ValueRule {
     min: 0.0,
     max: f64::INFINITY,
+    kind: NumberKind::Plain,
 };
 
-/// An index from 0 to 100.
+/// An index from 0 to 100, a score: `84%` reads as 84.
 pub const INDEX_RANGE: ValueRule = ValueRule {
     min: 0.0,
     max: 100.0,
+    kind: NumberKind::Score,
 };
+
+/// The plan key of a monthly file with columns `specs`.
+fn plan_key(specs: &[ColumnSpec]) -> &'static str {
+    if std::ptr::eq(specs, INDEX_COLUMNS) {
+        "interest"
+    } else if std::ptr::eq(specs, ACTUALS_COLUMNS) {
+        "actuals"
+    } else {
+        "history"
+    }
+}
 
 /// Reads a monthly file with the given columns; extra columns are kept when
 /// they are numeric (so `--column` can pick any of them).
@@ -106,7 +123,31 @@ pub fn read(
     mapping: &BTreeMap<String, String>,
     rule: ValueRule,
 ) -> Result<MonthlySeries> {
-    let mut t = table::open(path, specs, mapping)?;
+    let settings = ReadSettings::plan(plan_key(specs), mapping, None);
+    read_with(path, specs, &settings, rule).map(|r| r.0)
+}
+
+/// Like [`read`], with `settings`; returns the series and the number
+/// format it was read with.
+pub fn read_with(
+    path: &Path,
+    specs: &[ColumnSpec],
+    settings: &ReadSettings,
+    rule: ValueRule,
+) -> Result<(MonthlySeries, NumberFormat)> {
+    table::twice(settings, |conv| {
+        read_once(path, specs, settings, rule, conv)
+    })
+}
+
+fn read_once(
+    path: &Path,
+    specs: &[ColumnSpec],
+    settings: &ReadSettings,
+    rule: ValueRule,
+    conv: Convention,
+) -> Result<Pass<MonthlySeries>> {
+    let mut t = table::open_with(path, specs, settings, conv)?;
     let mut issues = Issues::default();
     let extras = t.extra_columns();
     let mut rows: Vec<(Month, u64, Vec<f64>)> = Vec::new();
@@ -123,7 +164,7 @@ pub fn read(
             if !t.has(k) {
                 continue;
             }
-            match t.number_in(k, rule.min, rule.max, NumberKind::Plain, &mut issues) {
+            match t.number_in(k, rule.min, rule.max, rule.kind, &mut issues) {
                 Some(v) => vals.push(v),
                 None => vals.push(f64::NAN),
             }
@@ -156,7 +197,7 @@ pub fn read(
         columns,
         non_numeric,
     };
-    issues.into_result(series)
+    Ok(t.finish(issues, series))
 }
 
 fn read_month(t: &table::Table, issues: &mut Issues) -> Option<Month> {
@@ -164,12 +205,7 @@ fn read_month(t: &table::Table, issues: &mut Issues) -> Option<Month> {
     match Month::parse(text) {
         Some(m) => Some(m),
         None => {
-            let shown = super::number::echo(text);
-            t.complain(
-                0,
-                issues,
-                format!("expected a month as YYYY-MM (for example 2025-03), found '{shown}'"),
-            );
+            t.complain(0, issues, crate::month::expected(text));
             None
         }
     }
@@ -190,7 +226,8 @@ fn read_extras(
             .raw(*pos)
             .and_then(|c| std::str::from_utf8(c).ok())
             .unwrap_or("");
-        match super::number::parse_number(cell, NumberKind::Plain) {
+        let column = || (super::number::echo(name).into_owned(), pos + 1);
+        match t.parse(cell, NumberKind::Plain, column) {
             Ok(v) => vals[j].push(v),
             Err(e) => {
                 non_numeric.insert(key, format!("line {}: {e}", t.line()));

@@ -3,8 +3,8 @@
 //! Used to fit the site's own click-through-rate curve. Clicks may not exceed
 //! impressions; positions are average positions (1 or more, may exceed 100).
 
-use super::number::NumberKind;
-use super::table::{self, required, ColumnSpec};
+use super::number::{Convention, NumberFormat, NumberKind};
+use super::table::{self, required, ColumnSpec, Pass, ReadSettings};
 use crate::error::{Issues, Result};
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -34,9 +34,23 @@ pub const QUERY_COLUMNS: &[ColumnSpec] = &[
     required("position"),
 ];
 
-/// Reads the query export.
+/// Reads the query export (as a plan's `queries` file, nothing declared).
 pub fn read(path: &Path, mapping: &BTreeMap<String, String>) -> Result<Vec<QueryRow>> {
-    let mut t = table::open(path, QUERY_COLUMNS, mapping)?;
+    read_with(path, &ReadSettings::plan("queries", mapping, None)).map(|r| r.0)
+}
+
+/// Reads the query export with `settings`; returns it and the number
+/// format it was read with.
+pub fn read_with(path: &Path, settings: &ReadSettings) -> Result<(Vec<QueryRow>, NumberFormat)> {
+    table::twice(settings, |conv| read_once(path, settings, conv))
+}
+
+fn read_once(
+    path: &Path,
+    settings: &ReadSettings,
+    conv: Convention,
+) -> Result<Pass<Vec<QueryRow>>> {
+    let mut t = table::open_with(path, QUERY_COLUMNS, settings, conv)?;
     let mut issues = Issues::default();
     let mut rows = Vec::new();
     while t.next_row(&mut issues) {
@@ -61,5 +75,5 @@ pub fn read(path: &Path, mapping: &BTreeMap<String, String>) -> Result<Vec<Query
         });
     }
     t.expect_rows(&mut issues, "one row per query");
-    issues.into_result(rows)
+    Ok(t.finish(issues, rows))
 }

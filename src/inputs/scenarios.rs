@@ -13,8 +13,8 @@
 //! see `output::csv`); the guard is removed here, so a dumped file read back
 //! gives the names that were written.
 
-use super::number::{echo, NumberKind};
-use super::table::{self, optional, required, ColumnSpec};
+use super::number::{echo, Convention, NumberKind};
+use super::table::{self, optional, required, ColumnSpec, Pass, ReadSettings};
 use crate::error::{Issues, Result};
 use crate::output::csv::unguard;
 use std::collections::{BTreeMap, HashMap, HashSet};
@@ -51,10 +51,16 @@ pub struct CostRow {
     pub id_column: usize,
 }
 
-/// Reads the returns file.
+/// Reads the returns file (its number convention found from its cells).
 pub fn read_returns(path: &Path) -> Result<Returns> {
+    let none = BTreeMap::new();
+    let settings = ReadSettings::bare(&none);
+    table::twice(&settings, |conv| returns_once(path, &settings, conv)).map(|r| r.0)
+}
+
+fn returns_once(path: &Path, settings: &ReadSettings, conv: Convention) -> Result<Pass<Returns>> {
     let header = "a header line of investment ids (such as cluster/tier), then one row of net returns per future";
-    let mut t = table::open_as(path, &[], &BTreeMap::new(), header)?;
+    let mut t = table::open_as(path, &[], settings, conv, header)?;
     let mut issues = Issues::default();
     let ids: Vec<String> = t.headers().iter().map(|h| unguard(h).to_string()).collect();
     check_ids(&t, &ids, &mut issues);
@@ -65,7 +71,7 @@ pub fn read_returns(path: &Path) -> Result<Returns> {
                 values.push(0.0);
                 continue;
             };
-            match super::number::parse_number(cell, NumberKind::Plain) {
+            match t.parse(cell, NumberKind::Plain, || (echo(id).into_owned(), i + 1)) {
                 Ok(v) if v.abs() < f32::MAX as f64 => values.push(v as f32),
                 Ok(v) => {
                     issues.add(
@@ -91,11 +97,12 @@ pub fn read_returns(path: &Path) -> Result<Returns> {
             "no futures: expected one row of net returns per simulated future after the header",
         );
     }
-    issues.into_result(Returns {
+    let returns = Returns {
         file: t.file.clone(),
         ids,
         values,
-    })
+    };
+    Ok(t.finish(issues, returns))
 }
 
 fn check_ids(t: &table::Table, ids: &[String], issues: &mut Issues) {
@@ -124,9 +131,19 @@ pub const COST_COLUMNS: &[ColumnSpec] = &[
     optional("min_fraction"),
 ];
 
-/// Reads the costs file.
+/// Reads the costs file (its number convention found from its cells).
 pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
-    let mut t = table::open(path, COST_COLUMNS, &BTreeMap::new())?;
+    let none = BTreeMap::new();
+    let settings = ReadSettings::bare(&none);
+    table::twice(&settings, |conv| costs_once(path, &settings, conv)).map(|r| r.0)
+}
+
+fn costs_once(
+    path: &Path,
+    settings: &ReadSettings,
+    conv: Convention,
+) -> Result<Pass<Vec<CostRow>>> {
+    let mut t = table::open_with(path, COST_COLUMNS, settings, conv)?;
     let mut issues = Issues::default();
     let mut rows: Vec<CostRow> = Vec::new();
     // Every id named in the file, kept rows or not, so that a `requires` of
@@ -188,7 +205,7 @@ pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
     t.expect_rows(&mut issues, "one row per investment id (id, cost)");
     let (name, pos) = t.column(3);
     check_requires(&t.file, (&name, pos), &rows, &named, &mut issues);
-    issues.into_result(rows)
+    Ok(t.finish(issues, rows))
 }
 
 fn fraction(t: &table::Table, k: usize, default: f64, issues: &mut Issues) -> Option<f64> {

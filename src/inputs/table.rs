@@ -7,6 +7,14 @@
 //! line and column, and reports ragged rows. Rows are streamed, never held
 //! twice, so a million-row keyword list loads in one pass. Header names and
 //! cells shown in messages go through `number::echo`, which cuts long ones.
+//!
+//! Every numeric cell goes through the file's [`Convention`], which works
+//! out the decimal mark from the cells as they pass. When a cell read
+//! tentatively turns out to be in a decimal-comma file, [`twice`] reads the
+//! file a second time with the convention known (only such files pay for a
+//! second pass). [`ReadSettings`] carries what the user declared (a column
+//! mapping, a number format) and how this command lets them declare it, so
+//! that no message points to a plan table the command does not read.
 
 use crate::error::{Error, Issues, Result};
 use csv::ByteRecord;
@@ -15,7 +23,187 @@ use std::fs::File;
 use std::io::{Cursor, Read};
 use std::path::Path;
 
-use super::number::{echo, parse_number, NumberKind};
+use super::number::{
+    ambiguous_message, echo, At, Convention, Decimal, NumberFormat, NumberKind, Origin,
+};
+use std::cell::RefCell;
+
+/// Where the user maps headers or declares the number format for a file.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Via {
+    /// A plan key, named after the file (`history`, `keywords`, ...):
+    /// `[inputs.columns.<key>]` and `[inputs.numbers] <key>`.
+    Plan(String),
+    /// Command-line flags (`--map`, `--numbers`).
+    Flags,
+    /// Nowhere: the command reads the file as it is.
+    Nowhere,
+}
+
+/// What a reader needs besides the path: the user's column mapping, the
+/// declared number format, and where those are declared (for messages).
+#[derive(Debug, Clone)]
+pub struct ReadSettings<'a> {
+    /// Canonical column name to the header used in the file.
+    pub mapping: &'a BTreeMap<String, String>,
+    /// The declared decimal mark, if any.
+    pub numbers: Option<Decimal>,
+    /// Where mapping and number format are declared.
+    pub via: Via,
+}
+
+impl<'a> ReadSettings<'a> {
+    /// A file named in the plan under `[inputs] <key>`.
+    pub fn plan(
+        key: &str,
+        mapping: &'a BTreeMap<String, String>,
+        numbers: Option<Decimal>,
+    ) -> Self {
+        ReadSettings {
+            mapping,
+            numbers,
+            via: Via::Plan(key.to_string()),
+        }
+    }
+
+    /// A file named by a flag of a command that has `--map` and `--numbers`.
+    pub fn flags(mapping: &'a BTreeMap<String, String>, numbers: Option<Decimal>) -> Self {
+        ReadSettings {
+            mapping,
+            numbers,
+            via: Via::Flags,
+        }
+    }
+
+    /// A file read as it is (no mapping, no declared format).
+    pub fn bare(mapping: &'a BTreeMap<String, String>) -> Self {
+        ReadSettings {
+            mapping,
+            numbers: None,
+            via: Via::Nowhere,
+        }
+    }
+
+    /// The convention a first pass starts from.
+    fn convention(&self) -> Convention {
+        match self.numbers {
+            Some(d) => Convention::known(d, Origin::Declared(self.declared_by())),
+            None => Convention::unknown(),
+        }
+    }
+
+    fn declared_by(&self) -> String {
+        match &self.via {
+            Via::Plan(key) => format!("[inputs.numbers] {key} in the plan"),
+            Via::Flags => "--numbers".into(),
+            Via::Nowhere => "the command".into(),
+        }
+    }
+
+    /// How the user settles an ambiguous number, as the end of a message.
+    pub fn settle_hint(&self) -> String {
+        let (c, p) = (Decimal::Comma.example(), Decimal::Point.example());
+        match &self.via {
+            Via::Plan(key) => format!(
+                "declare the file's number format in the plan: [inputs.numbers] {key} = \"{c}\" (decimal comma) or \"{p}\" (decimal point)"
+            ),
+            Via::Flags => format!(
+                "declare the file's number format with --numbers \"{c}\" (decimal comma) or --numbers \"{p}\" (decimal point)"
+            ),
+            Via::Nowhere => "write the file's numbers without grouping marks (1234.5)".into(),
+        }
+    }
+
+    /// How the user maps a header for column `name`, as the end of a message.
+    fn map_hint(&self, name: &str) -> String {
+        match &self.via {
+            Via::Plan(key) => format!(
+                "Rename the column or map it in the plan's [inputs.columns.{key}] table ({name} = \"the header in your file\")"
+            ),
+            Via::Flags => format!(
+                "Rename the column or map it with --map {name}=\"the header in your file\""
+            ),
+            Via::Nowhere => format!("Rename the column to '{name}'"),
+        }
+    }
+}
+
+/// Reads `--map NAME=HEADER` flags into a mapping; every NAME must be a
+/// column of one of `files` (the column lists the command reads).
+pub fn parse_map_flags(
+    flags: &[String],
+    files: &[&[ColumnSpec]],
+) -> Result<BTreeMap<String, String>> {
+    let mut map = BTreeMap::new();
+    for f in flags {
+        let Some((name, header)) = f.split_once('=') else {
+            return Err(Error::Setting(format!(
+                "--map expects NAME=HEADER (for example --map clicks=\"Clicks per month\"), found '{}'",
+                echo(f)
+            )));
+        };
+        let name = name.trim().to_lowercase();
+        let known: Vec<&str> = files
+            .iter()
+            .flat_map(|s| s.iter().map(|c| c.name))
+            .collect();
+        if !known.contains(&name.as_str()) {
+            let mut names = known.clone();
+            names.dedup();
+            return Err(Error::Setting(format!(
+                "--map {}: '{}' is not a column this command reads; expected one of {}",
+                echo(f),
+                echo(&name),
+                names.join(", ")
+            )));
+        }
+        if header.trim().is_empty() {
+            return Err(Error::Setting(format!(
+                "--map {}: expected the header your file uses after '=', found nothing",
+                echo(f)
+            )));
+        }
+        map.insert(name, header.trim().to_string());
+    }
+    Ok(map)
+}
+
+/// Reads a `--numbers` flag: how the file writes 1234.5.
+pub fn parse_numbers_flag(flag: Option<&str>) -> Result<Option<Decimal>> {
+    let Some(f) = flag else { return Ok(None) };
+    match Decimal::parse_declared(f) {
+        Some(d) => Ok(Some(d)),
+        None => Err(Error::Setting(format!(
+            "--numbers expects how the file writes one thousand two hundred thirty-four and a half: \"1,234.5\" or \"1234.5\" (decimal point), \"1.234,5\", \"1 234,5\" or \"1234,5\" (decimal comma); found '{}'",
+            echo(f)
+        ))),
+    }
+}
+
+/// How a pass over a file ended.
+pub enum Pass<T> {
+    /// Read (the value, or the file's problems) with this number format.
+    Done(Result<T>, NumberFormat),
+    /// A cell read tentatively turned out to be in a decimal-comma file:
+    /// read the file again with this convention.
+    Again(Convention),
+}
+
+/// Runs a reader's pass, and a second one when the first found the file's
+/// convention only after reading cells it affects.
+pub fn twice<T>(
+    settings: &ReadSettings,
+    mut once: impl FnMut(Convention) -> Result<Pass<T>>,
+) -> Result<(T, NumberFormat)> {
+    let mut conv = settings.convention();
+    loop {
+        match once(conv)? {
+            Pass::Done(r, f) => return r.map(|v| (v, f)),
+            // A known convention never asks for another pass.
+            Pass::Again(c) => conv = c,
+        }
+    }
+}
 
 /// A column a reader knows.
 #[derive(Debug, Clone, Copy)]
@@ -65,6 +253,12 @@ pub struct Table {
     skipped: u64,
     /// The delimiter found.
     pub delimiter: u8,
+    /// The file's number convention, worked out as cells are read.
+    numbers: RefCell<Convention>,
+    /// Where the user declares things for this file.
+    via: Via,
+    settle_hint: String,
+    map_hints: Vec<String>,
 }
 
 const PEEK: usize = 64 * 1024;
@@ -76,17 +270,31 @@ pub fn open(
     specs: &[ColumnSpec],
     mapping: &BTreeMap<String, String>,
 ) -> Result<Table> {
-    open_as(path, specs, mapping, &expected_header(specs))
+    let s = ReadSettings::plan("<file>", mapping, None);
+    open_with(path, specs, &s, s.convention())
 }
 
-/// Like [`open`], for files whose header is not a fixed set of columns:
-/// `header` says what the header should hold (for an empty file's message).
+/// Opens `path` with `settings`, reading numbers with `numbers`.
+pub fn open_with(
+    path: &Path,
+    specs: &[ColumnSpec],
+    settings: &ReadSettings,
+    numbers: Convention,
+) -> Result<Table> {
+    open_as(path, specs, settings, numbers, &expected_header(specs))
+}
+
+/// Like [`open_with`], for files whose header is not a fixed set of
+/// columns: `header` says what the header should hold (for an empty
+/// file's message).
 pub fn open_as(
     path: &Path,
     specs: &[ColumnSpec],
-    mapping: &BTreeMap<String, String>,
+    settings: &ReadSettings,
+    numbers: Convention,
     header: &str,
 ) -> Result<Table> {
+    let mapping = settings.mapping;
     let file = path.display().to_string();
     let mut f = File::open(path).map_err(|source| Error::Read {
         path: path.to_path_buf(),
@@ -116,7 +324,11 @@ pub fn open_as(
             source,
         })?;
     }
+    // Records end at '\n' only: with the default CRLF terminator the csv
+    // crate numbers the lines of a CRLF file one too low. A '\r' left at
+    // the end of a last cell is trimmed with the other whitespace.
     let reader = csv::ReaderBuilder::new()
+        .terminator(csv::Terminator::Any(b'\n'))
         .delimiter(delimiter)
         .flexible(true)
         .has_headers(false)
@@ -133,6 +345,10 @@ pub fn open_as(
         rows: 0,
         skipped: 0,
         delimiter,
+        numbers: RefCell::new(numbers),
+        via: settings.via.clone(),
+        settle_hint: settings.settle_hint(),
+        map_hints: specs.iter().map(|c| settings.map_hint(c.name)).collect(),
     };
     table.read_header(specs, mapping, header)?;
     Ok(table)
@@ -257,12 +473,18 @@ impl Table {
             };
             let pos = lower.iter().position(|h| wanted.contains(h));
             if pos.is_none() && spec.required {
-                let via = match mapping.get(spec.name) {
-                    Some(m) => format!(" (mapped in the plan to '{}')", echo(m)),
-                    None => String::new(),
+                let via = match (mapping.get(spec.name), &self.via) {
+                    (Some(m), Via::Plan(_)) => format!(" (mapped in the plan to '{}')", echo(m)),
+                    (Some(m), _) => format!(" (mapped with --map to '{}')", echo(m)),
+                    (None, _) => String::new(),
                 };
+                let hint = self
+                    .map_hints
+                    .get(self.index.len())
+                    .cloned()
+                    .unwrap_or_default();
                 let msg = format!(
-                    "missing the required column '{}'{via}; the header has: {}. Rename the column or map it in the plan's [inputs.columns] table",
+                    "missing the required column '{}'{via}; the header has: {}. {hint}",
                     spec.name,
                     header_list(&self.headers)
                 );
@@ -355,7 +577,7 @@ impl Table {
 
     /// The header name (as messages show it) and 1-based position of spec
     /// `k`'s column.
-    fn col(&self, k: usize) -> (String, usize) {
+    pub fn col(&self, k: usize) -> (String, usize) {
         let pos = self.index[k].unwrap_or(0);
         let name = self
             .headers
@@ -403,13 +625,55 @@ impl Table {
         if t.is_empty() {
             return None;
         }
-        match parse_number(t, kind) {
+        match self.parse(t, kind, || self.col(k)) {
             Ok(v) => Some(v),
             Err(msg) => {
                 self.complain(k, issues, msg);
                 None
             }
         }
+    }
+
+    /// Reads `raw`, a cell of the current row in the column `column` names
+    /// (header, 1-based position), in the file's number convention.
+    pub fn parse(
+        &self,
+        raw: &str,
+        kind: NumberKind,
+        column: impl FnOnce() -> (String, usize),
+    ) -> std::result::Result<f64, String> {
+        let line = self.line;
+        self.numbers.borrow_mut().read(raw, kind, || At {
+            line,
+            column: column(),
+        })
+    }
+
+    /// Ends a pass: reports cells no convention could settle, or asks for
+    /// a second pass when the file turned out to use a decimal comma after
+    /// cells were read tentatively with a decimal point.
+    pub fn finish<T>(&self, issues: Issues, value: T) -> Pass<T> {
+        let mut issues = issues;
+        let c = self.numbers.borrow();
+        if c.read_again() {
+            let d = c.decimal().unwrap_or(Decimal::Comma);
+            return Pass::Again(Convention::known(d, c.origin().clone()));
+        }
+        let (cells, count) = c.ambiguous();
+        for a in cells {
+            let (name, pos) = &a.at.column;
+            let msg = ambiguous_message(a, &self.settle_hint);
+            issues.add(&self.file, Some(a.at.line), Some((name, *pos)), msg);
+        }
+        if count > cells.len() as u64 {
+            let msg = format!(
+                "{} more numbers read differently with a decimal comma and with a decimal point; {}",
+                count - cells.len() as u64,
+                self.settle_hint
+            );
+            issues.add(&self.file, None, None, msg);
+        }
+        Pass::Done(issues.into_result(value), c.format())
     }
 
     /// Like [`Table::number`] but a blank cell is a problem too.
