@@ -270,3 +270,76 @@ fn the_report_says_how_the_update_was_made() {
     assert!(table.contains("How the re-forecast was made"), "{table}");
     assert!(table.contains(&r.baseline_method));
 }
+
+#[test]
+fn lowering_the_observed_months_lowers_the_update_of_every_method() {
+    // The state update of each method family on the statsmodels fixture's
+    // history (48 months): observed months scaled down step by step never
+    // raise the updated point forecast of a later month. Exponential
+    // smoothing with the fixture's parameters (α 0.4, β 0.15, γ 0.3, φ 0.9);
+    // the others fitted.
+    let text = std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("tests/fixtures/track/statsmodels_state_update.json"),
+    )
+    .unwrap();
+    let fx: Value = serde_json::from_str(&text).unwrap();
+    let y = floats(&fx["history"]);
+    let smoothing = |method, phi| BaselineOptions {
+        method,
+        horizon: 12,
+        alpha: Some(0.4),
+        beta: Some(0.15),
+        gamma: Some(0.3),
+        phi,
+        paths: 50,
+        ..BaselineOptions::default()
+    };
+    let cases = [
+        smoothing(Method::Holt, None),
+        smoothing(Method::Holt, Some(0.9)),
+        smoothing(Method::HoltWintersAdditive, None),
+        smoothing(Method::HoltWintersAdditive, Some(0.9)),
+        smoothing(Method::HoltWintersMultiplicative, None),
+        smoothing(Method::HoltWintersMultiplicative, Some(0.9)),
+        BaselineOptions {
+            method: Method::SeasonalNaive,
+            horizon: 12,
+            paths: 50,
+            ..BaselineOptions::default()
+        },
+        BaselineOptions {
+            method: Method::Linear,
+            horizon: 12,
+            paths: 50,
+            ..BaselineOptions::default()
+        },
+    ];
+    for opts in &cases {
+        let fc = forecast(&y, None, opts).unwrap();
+        let name = format!("{} phi {:?}", fc.method.name(), opts.phi);
+        for k in [1usize, 4, 8] {
+            let mut last: Option<Vec<f64>> = None;
+            for step in 0..=10 {
+                let f = 1.2 - 0.06 * step as f64;
+                let observed: Vec<f64> = fc.mean[..k].iter().map(|v| v * f).collect();
+                let now = fc.fitted.updated_point_forecast(&observed);
+                if let Some(before) = &last {
+                    for j in k..now.len() {
+                        assert!(
+                            now[j] <= before[j] + 1e-9 * before[j].abs(),
+                            "{name}, {k} months, factor {f:.2}, month {j}: {} > {}",
+                            now[j],
+                            before[j]
+                        );
+                    }
+                    assert!(
+                        now[k..].iter().zip(&before[k..]).any(|(a, b)| a < b),
+                        "{name} moved"
+                    );
+                }
+                last = Some(now);
+            }
+        }
+    }
+}

@@ -232,13 +232,19 @@ impl ModelKind {
                     *o = a + b * (n + j) as f64 + errors.draw(rng);
                 }
             }
-            ModelKind::SeasonalNaive(m) => {
-                seasonal_walk_observed(&m.last_season, |_| 1.0, m.drift, errors, rng, &seen, out)
-            }
+            ModelKind::SeasonalNaive(m) => seasonal_walk_observed(
+                &m.last_season,
+                |_| 1.0,
+                Some((m.drift, m.residuals.len())),
+                errors,
+                rng,
+                &seen,
+                out,
+            ),
             ModelKind::IndexGrowth(m) => seasonal_walk_observed(
                 &m.last_season,
                 |k| m.step_ratio(k),
-                0.0,
+                None,
                 errors,
                 rng,
                 &seen,
@@ -269,10 +275,15 @@ impl ModelKind {
 }
 
 /// [`seasonal_walk`] where observed months replace the walk's value.
+/// `drift` is the seasonal naïve drift and the number of year-on-year
+/// differences it averages (None: no drift, index growth): the observed
+/// months' year-on-year differences are appended to that average (the
+/// method re-run on the appended months), and the months after the last
+/// observed one use the updated drift.
 fn seasonal_walk_observed(
     last: &[f64],
     ratio: impl Fn(usize) -> f64,
-    drift: f64,
+    drift: Option<(f64, usize)>,
     errors: &mut ErrorDraw<'_>,
     rng: &mut Stream,
     seen: &dyn Fn(usize) -> Option<f64>,
@@ -280,10 +291,26 @@ fn seasonal_walk_observed(
 ) {
     let m = last.len();
     let mut buf = last.to_vec();
+    let (mut c, mut count) = drift.unwrap_or((0.0, 0));
+    let mut sum = c * count as f64;
     for (j, o) in out.iter_mut().enumerate() {
         let i = j % m;
         let e = errors.draw(rng);
-        buf[i] = seen(j).unwrap_or(buf[i] * ratio(j / m + 1) + drift + e);
+        buf[i] = match seen(j) {
+            Some(y) => {
+                if drift.is_some() {
+                    sum += y - buf[i];
+                    count += 1;
+                }
+                y
+            }
+            None => {
+                if count > 0 {
+                    c = sum / count as f64;
+                }
+                buf[i] * ratio(j / m + 1) + c + e
+            }
+        };
         *o = buf[i];
     }
 }
@@ -439,8 +466,8 @@ impl FittedModel {
     pub fn update_rule(&self) -> &'static str {
         match self.kind {
             ModelKind::Ets(_) => "exact filtering: the fitted exponential smoothing recursion run over the observed months with the fitted parameters (no refit)",
-            ModelKind::SeasonalNaive(_) => "the observed months replace the same months of the last season, the state of the seasonal naive walk (drift kept)",
-            ModelKind::IndexGrowth(_) => "the observed months replace the same months of the last season, the state of the index-growth walk (ratios kept)",
+            ModelKind::SeasonalNaive(_) => "the observed months replace the same months of the last season (the state of the seasonal naive walk) and their year-on-year changes are appended to the drift's average",
+            ModelKind::IndexGrowth(_) => "the observed months replace the same months of the last season, the state of the index-growth walk; the growth comes from the search-interest index, which the actuals do not inform, so months within a year of the observed ones keep their forecast",
             ModelKind::Linear(_) => "the linear trend has no state: the observed months are appended to the history and the line refit by least squares (error spread kept)",
         }
     }
