@@ -343,3 +343,57 @@ fn lowering_the_observed_months_lowers_the_update_of_every_method() {
         }
     }
 }
+
+#[test]
+fn revenue_tracking_follows_the_data_too() {
+    // The demo with a revenue target: the actuals are divided by each
+    // future's revenue per click before its increments are taken out, so
+    // lower revenue still lowers every later month and the odds.
+    let tmp = tempfile::tempdir().unwrap();
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    for f in ["history.csv", "interest.csv", "keywords.csv", "queries.csv"] {
+        std::fs::copy(root.join("demo-data").join(f), tmp.path().join(f)).unwrap();
+    }
+    let plan = std::fs::read_to_string(root.join("demo-data/plan.toml"))
+        .unwrap()
+        .replace("metric = \"clicks\"", "metric = \"revenue\"")
+        .replace(
+            "dir = \"../models\"",
+            &format!("dir = {:?}", root.join("models").display().to_string()),
+        );
+    assert!(plan.contains("metric = \"revenue\""));
+    std::fs::write(tmp.path().join("plan.toml"), plan).unwrap();
+    let o = Overrides {
+        scenarios: Some(300),
+        ..Overrides::default()
+    };
+    let inputs = furrow::inputs::load::load(&tmp.path().join("plan.toml"), &o).unwrap();
+    let s = pipeline::simulate(
+        inputs,
+        &SimOptions {
+            max_memory: 2 << 30,
+            progress: None,
+        },
+    )
+    .unwrap();
+    let chosen = s.allocate(&SolveOptions::default()).unwrap();
+    let probe = track(&s, &chosen, &[1.0, 1.0, 1.0]);
+    assert_eq!(probe.metric, furrow::target::Metric::Revenue);
+    let med: Vec<f64> = probe.observed.iter().map(|o| o.p50).collect();
+    let mut last: Option<TrackReport> = None;
+    for step in 0..=8 {
+        let f = 1.2 - 0.08 * step as f64;
+        let actuals: Vec<f64> = med.iter().map(|m| m * f).collect();
+        let r = track(&s, &chosen, &actuals);
+        if let Some(p) = &last {
+            for (now, before) in r.reforecast.iter().zip(&p.reforecast) {
+                assert!(now.p50 <= before.p50 + 1e-9 * before.p50, "{}", now.month);
+            }
+            let (a, b) = (r.target.as_ref().unwrap(), p.target.as_ref().unwrap());
+            assert!(a.updated_chance <= b.updated_chance);
+        }
+        last = Some(r);
+    }
+    let low = last.unwrap();
+    assert!(low.reforecast.iter().all(|m| m.p50 < m.prior_p50));
+}
