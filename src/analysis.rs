@@ -287,23 +287,51 @@ pub fn drivers_report(s: &Simulated, chosen: &Allocation) -> Result<DriverReport
     )?)
 }
 
-/// Tracking of the actuals against the chosen allocation's forecast.
+/// Tracking of the actuals against the chosen allocation's forecast: the
+/// baseline's states are updated with the actuals less each future's funded
+/// increments, and the rest of the horizon re-simulated (`track::report`).
 pub fn track_report(
     s: &Simulated,
     chosen: &Allocation,
     actuals: &crate::inputs::monthly::MonthlySeries,
 ) -> Result<TrackReport> {
+    let metric = target(s)?.map(|t| t.metric).unwrap_or(Metric::Clicks);
+    let values = track::actual_values(actuals, metric)?;
+    track_values(s, chosen, &values)
+}
+
+/// [`track_report`] from the actuals' values in the target's metric (clicks
+/// without a target), first month at the forecast start.
+pub fn track_values(s: &Simulated, chosen: &Allocation, values: &[f64]) -> Result<TrackReport> {
     let t = target(s)?;
     let metric = t.as_ref().map(|t| t.metric).unwrap_or(Metric::Clicks);
-    let values = track::actual_values(actuals, metric)?;
-    let sims = target::monthly_totals(&s.futures, &s.baseline_paths, &s.fractions(chosen), metric)?;
+    let fractions = s.fractions(chosen);
+    let increments = target::totals::funded_monthly(&s.futures, &fractions)?;
+    let sims =
+        target::totals::with_baseline(&s.futures, increments.clone(), &s.baseline_paths, metric)?;
+    let per_click: Vec<f64> = s
+        .futures
+        .site
+        .iter()
+        .take(s.futures.scenarios)
+        .map(|site| match metric {
+            Metric::Revenue => crate::simulate::summary::revenue_per_click(site),
+            _ => 1.0,
+        })
+        .collect();
     let months: Vec<crate::month::Month> = s.model.months.clone();
     let input = TrackInput {
-        actuals: &values,
+        actuals: values,
         sims: &sims,
         months: &months,
         metric,
         target: t.map(|t| t.amount),
+        update: track::Update {
+            baseline: &s.baseline,
+            seed: s.inputs.plan.seed,
+            increments: &increments,
+            per_click: &per_click,
+        },
     };
     Ok(track::track(&input, &TrackOptions::default())?)
 }

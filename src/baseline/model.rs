@@ -183,6 +183,138 @@ impl ModelKind {
     }
 }
 
+impl ModelKind {
+    /// Simulates one path into `out` like [`ModelKind::simulate_into`], but
+    /// months `from..from + observed.len()` take the observed values and
+    /// update the method's states with them (the tracking update). An error
+    /// is drawn for every month, observed or not, so the remaining months use
+    /// the same draws as the unconditioned path (common random numbers):
+    /// observing a path's own values gives back that path.
+    ///
+    /// - Exponential smoothing: exact filtering, the recursion `ets::step`
+    ///   run over the observed values with the fitted parameters (no refit).
+    /// - Seasonal naïve and index growth: the observed month replaces the
+    ///   same month of the last season, the state of their seasonal walk.
+    /// - Linear trend (no state): the observed months (and any simulated gap
+    ///   before them) are appended to the history and the line is refit by
+    ///   OLS; later months follow the refit line with the fitted error spread.
+    fn simulate_observed_into(
+        &self,
+        point: &[f64],
+        errors: &mut ErrorDraw<'_>,
+        rng: &mut Stream,
+        from: usize,
+        observed: &[f64],
+        out: &mut [f64],
+    ) {
+        let seen = |j: usize| (j >= from && j - from < observed.len()).then(|| observed[j - from]);
+        match self {
+            ModelKind::Linear(m) => {
+                let end = from + observed.len();
+                for (j, o) in out.iter_mut().enumerate().take(end) {
+                    let e = errors.draw(rng);
+                    *o = seen(j).unwrap_or(point[j] + e);
+                }
+                let mut y: Vec<f64> = m
+                    .fitted
+                    .iter()
+                    .zip(&m.residuals)
+                    .map(|(f, r)| f + r)
+                    .collect();
+                y.extend_from_slice(&out[..end.min(out.len())]);
+                let x: Vec<f64> = (0..y.len()).map(|t| t as f64).collect();
+                let (a, b) = match super::linear::ols(&x, &y) {
+                    Ok(f) => (f.intercept, f.slope),
+                    Err(_) => (m.fit.intercept, m.fit.slope),
+                };
+                let n = m.fitted.len();
+                for (j, o) in out.iter_mut().enumerate().skip(end) {
+                    *o = a + b * (n + j) as f64 + errors.draw(rng);
+                }
+            }
+            ModelKind::SeasonalNaive(m) => seasonal_walk_observed(
+                &m.last_season,
+                |_| 1.0,
+                Some((m.drift, m.residuals.len())),
+                errors,
+                rng,
+                &seen,
+                out,
+            ),
+            ModelKind::IndexGrowth(m) => seasonal_walk_observed(
+                &m.last_season,
+                |k| m.step_ratio(k),
+                None,
+                errors,
+                rng,
+                &seen,
+                out,
+            ),
+            ModelKind::Ets(m) => {
+                let mut st = m.last.clone();
+                for (j, o) in out.iter_mut().enumerate() {
+                    let e = errors.draw(rng);
+                    *o = match seen(j) {
+                        Some(y) => {
+                            ets::step(&m.spec, &m.params, &mut st, y);
+                            y
+                        }
+                        None if m.spec.multiplicative_error() => {
+                            ets::step_multiplicative_error(&m.params, &mut st, e)
+                        }
+                        None => {
+                            let y = ets::one_step(&m.spec, &m.params, &st) + e;
+                            ets::step(&m.spec, &m.params, &mut st, y);
+                            y
+                        }
+                    };
+                }
+            }
+        }
+    }
+}
+
+/// [`seasonal_walk`] where observed months replace the walk's value.
+/// `drift` is the seasonal naïve drift and the number of year-on-year
+/// differences it averages (None: no drift, index growth): the observed
+/// months' year-on-year differences are appended to that average (the
+/// method re-run on the appended months), and the months after the last
+/// observed one use the updated drift.
+fn seasonal_walk_observed(
+    last: &[f64],
+    ratio: impl Fn(usize) -> f64,
+    drift: Option<(f64, usize)>,
+    errors: &mut ErrorDraw<'_>,
+    rng: &mut Stream,
+    seen: &dyn Fn(usize) -> Option<f64>,
+    out: &mut [f64],
+) {
+    let m = last.len();
+    let mut buf = last.to_vec();
+    let (mut c, mut count) = drift.unwrap_or((0.0, 0));
+    let mut sum = c * count as f64;
+    for (j, o) in out.iter_mut().enumerate() {
+        let i = j % m;
+        let e = errors.draw(rng);
+        buf[i] = match seen(j) {
+            Some(y) => {
+                if drift.is_some() {
+                    sum += y - buf[i];
+                    count += 1;
+                }
+                y
+            }
+            None => {
+                if count > 0 {
+                    c = sum / count as f64;
+                }
+                buf[i] * ratio(j / m + 1) + c + e
+            }
+        };
+        *o = buf[i];
+    }
+}
+
 /// y*_{j} = y*_{j−m}·ratio(year) + drift + ε, starting from the last season.
 fn seasonal_walk(
     last: &[f64],
@@ -284,6 +416,59 @@ impl FittedModel {
         self.kind.simulate_into(&self.point, &mut errors, rng, out);
         for v in out.iter_mut() {
             *v = v.max(0.0);
+        }
+    }
+
+    /// One path like [`FittedModel::simulate_one`] (same stream, same
+    /// draws), with months `from..from + observed.len()` observed: the
+    /// method's states are updated with them and the later months simulated
+    /// from the updated states (see `ModelKind::simulate_observed_into`).
+    /// The observed months are written to `out` as given; all months are
+    /// clamped at 0 after the recursion.
+    pub fn simulate_observed(
+        &self,
+        rng: &mut Stream,
+        from: usize,
+        observed: &[f64],
+        out: &mut [f64],
+    ) {
+        let residuals = self.bootstrap.then(|| self.kind.residuals());
+        let mut errors = ErrorDraw {
+            sigma: self.kind.sigma(),
+            residuals,
+        };
+        self.kind
+            .simulate_observed_into(&self.point, &mut errors, rng, from, observed, out);
+        for v in out.iter_mut() {
+            *v = v.max(0.0);
+        }
+    }
+
+    /// The point forecast after the first `observed.len()` months of the
+    /// horizon are observed: the same update as
+    /// [`FittedModel::simulate_observed`] with every error set to 0, so the
+    /// later months follow the method's recursion from the updated states
+    /// (not clamped). For exponential smoothing this is the forecast made by
+    /// appending the observations without refitting.
+    pub fn updated_point_forecast(&self, observed: &[f64]) -> Vec<f64> {
+        let mut errors = ErrorDraw {
+            sigma: 0.0,
+            residuals: None,
+        };
+        let mut rng = crate::rng::stream(0, crate::rng::domain::BASELINE, 0);
+        let mut out = vec![0.0; self.horizon()];
+        self.kind
+            .simulate_observed_into(&self.point, &mut errors, &mut rng, 0, observed, &mut out);
+        out
+    }
+
+    /// How [`FittedModel::simulate_observed`] updates this method.
+    pub fn update_rule(&self) -> &'static str {
+        match self.kind {
+            ModelKind::Ets(_) => "exact filtering: the fitted exponential smoothing recursion run over the observed months with the fitted parameters (no refit)",
+            ModelKind::SeasonalNaive(_) => "the observed months replace the same months of the last season (the state of the seasonal naive walk) and their year-on-year changes are appended to the drift's average",
+            ModelKind::IndexGrowth(_) => "the observed months replace the same months of the last season, the state of the index-growth walk; the growth comes from the search-interest index, which the actuals do not inform, so months within a year of the observed ones keep their forecast",
+            ModelKind::Linear(_) => "the linear trend has no state: the observed months are appended to the history and the line refit by least squares (error spread kept)",
         }
     }
 }

@@ -9,6 +9,7 @@ use crate::error::{Error, Result};
 use crate::inputs::monthly::MonthlySeries;
 use crate::month::Month;
 use crate::output::{num, opt, Render, Rows};
+use rayon::prelude::*;
 use serde::Serialize;
 use std::collections::BTreeMap;
 
@@ -157,6 +158,39 @@ impl PlanBaseline {
         for p in 0..n {
             out.extend_from_slice(&full[p * h_all + self.skip..(p + 1) * h_all]);
         }
+        out
+    }
+}
+
+impl PlanBaseline {
+    /// Paths over the plan's months like [`PlanBaseline::paths`] (path i on
+    /// the same stream), with the first `k` plan months of path i observed
+    /// at `observed(i)` (`k` values): the method's states are updated with
+    /// them and the rest re-simulated (`FittedModel::simulate_observed`).
+    /// Months between the history and the plan's start stay simulated.
+    pub fn paths_observed(
+        &self,
+        n: usize,
+        seed: u64,
+        observed: impl Fn(usize) -> Vec<f64> + Sync,
+    ) -> Vec<f64> {
+        let fitted = &self.forecast.fitted;
+        let h_all = fitted.horizon();
+        let h = h_all - self.skip;
+        let mut out = vec![0.0; n * h];
+        if h == 0 {
+            return out;
+        }
+        let skip = self.skip;
+        out.par_chunks_mut(h)
+            .with_min_len(64)
+            .enumerate()
+            .for_each(|(i, row)| {
+                let mut rng = crate::rng::stream(seed, crate::rng::domain::BASELINE, i as u64);
+                let mut full = vec![0.0; h_all];
+                fitted.simulate_observed(&mut rng, skip, &observed(i), &mut full);
+                row.copy_from_slice(&full[skip..]);
+            });
         out
     }
 }

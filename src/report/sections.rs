@@ -367,12 +367,7 @@ pub fn tracking(sm: &Summary) -> String {
         ));
     }
     s + &para(&format!(
-        "Method: {}. Sigma {} (asked {}){}; effective sample size {} (threshold {}).",
-        t.method,
-        number(t.sigma, 3),
-        number(t.sigma_initial, 3),
-        if t.widened { ", widened" } else { "" },
-        number(t.ess, 0),
-        number(t.ess_threshold, 0)
+        "How the re-forecast was made: {}. Baseline {}: {}.",
+        t.method, t.baseline_method, t.baseline_update
     ))
 }

@@ -745,17 +745,8 @@ fn tracking_table(r: &crate::track::TrackReport) -> Table {
 
 fn tracking_notes(r: &crate::track::TrackReport) -> Vec<String> {
     let mut notes = vec![format!(
-        "Effective sample size {} of {} futures (threshold {}); sigma {:.3} on the log scale{}. Method: {}.",
-        int(r.ess),
-        int(r.scenarios as f64),
-        int(r.ess_threshold),
-        r.sigma,
-        if r.widened {
-            format!(", widened from {:.3}", r.sigma_initial)
-        } else {
-            String::new()
-        },
-        r.method
+        "How the re-forecast was made: {}. Baseline {}: {}.",
+        r.method, r.baseline_method, r.baseline_update
     )];
     if let Some(u) = &r.target {
         notes.push(format!(

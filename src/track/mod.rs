@@ -1,25 +1,20 @@
 //! Tracking: where the months observed so far fall in the forecast, and a
-//! re-forecast of the rest of the horizon that weights the simulated
-//! futures by how well they match what has been seen.
-//!
-//! [`weights`] computes importance weights (the sampling–resampling view of
-//! Bayes' rule, Smith & Gelfand, "Bayesian statistics without tears: a
-//! sampling–resampling perspective", The American Statistician 46(2), 1992;
-//! the same weighting as the bootstrap filter of Gordon, Salmond & Smith,
-//! "Novel approach to nonlinear/non-Gaussian Bayesian state estimation",
-//! IEE Proceedings F 140(2), 1993), their effective sample size, and widens
-//! the tolerance when too few futures carry the weight. [`report`] turns
-//! them into the tracking table and the updated target odds.
+//! re-forecast of the rest of the horizon that follows the data: the
+//! baseline method's own states are updated with the observed months (less
+//! each future's funded increments) and the remaining months re-simulated
+//! from them ([`report`]; exact filtering for exponential smoothing,
+//! Hyndman, Koehler, Ord & Snyder, *Forecasting with Exponential Smoothing:
+//! The State Space Approach*, Springer 2008, ch. 2). [`weights`] keeps the
+//! options type and the effective sample size of the earlier weighting.
 
 pub mod report;
 pub mod weights;
 
 pub use report::{
-    actual_values, track, ObservedMonth, ReforecastMonth, TargetUpdate, TrackInput, TrackReport,
+    actual_values, reforecast_totals, track, ObservedMonth, ReforecastMonth, TargetUpdate,
+    TrackInput, TrackReport, Update, UPDATE,
 };
-pub use weights::{
-    ess, ess_threshold, reweight, weights_at, TrackOptions, Weighting, DEFAULT_SIGMA,
-};
+pub use weights::{ess, ess_threshold, TrackOptions, DEFAULT_SIGMA};
 
 /// Everything that can go wrong in tracking.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]

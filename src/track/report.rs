@@ -2,19 +2,36 @@
 //! forecast's P10/P50/P90 and its percentile; per remaining month, the
 //! prior and the re-forecast quantiles; and the updated target odds.
 //!
+//! The re-forecast follows the data (issue 14): each future keeps its own
+//! draw of the plan's incremental clicks (and revenue per click), and the
+//! baseline part of the observed months is what the actuals leave once that
+//! future's increments are taken out, `y_{s,m} = max(0, a_m / v_s − u_{s,m})`
+//! (`a` the actual, `v` the metric per click, 1 for clicks, `u` the funded
+//! increments). The baseline method's own states are updated with `y`
+//! (`baseline::FittedModel::simulate_observed`: exact filtering for the
+//! exponential smoothing family) and the remaining months re-simulated from
+//! the updated states on the future's own random stream, so the update uses
+//! common random numbers and lowering an actual can only lower what follows
+//! (for the usual smoothing parameters). No future is reweighted, so nothing
+//! flattens back to the prior when the actuals leave the simulated range:
+//! the incremental factors keep their simulated spread, since a month's
+//! total cannot tell the baseline from the increment apart beyond the
+//! baseline's own error.
+//!
 //! - Percentile of an actual: the share of futures below it, ties counted
 //!   half (a mid-distribution percentile).
 //! - Observed-month quantiles are type 7 (Hyndman & Fan 1996). Re-forecast
-//!   quantiles are weighted: the value where the cumulative weight first
-//!   reaches the level; the prior beside them uses the same rule with equal
-//!   weights, so the two columns compare like with like.
+//!   quantiles use the weighted rule with equal weights (the value where the
+//!   cumulative share first reaches the level), and the prior beside them the
+//!   same rule, so the two columns compare like with like.
 //! - Updated target odds: each future's total is the actuals of the observed
-//!   months plus its own simulated remaining months; the chance is the
-//!   weight of the futures reaching the target. The prior chance uses the
-//!   simulated totals of the whole horizon with equal weights.
+//!   months plus its own re-forecast remaining months; the chance is the
+//!   share of futures reaching the target. The prior chance uses the
+//!   simulated totals of the whole horizon.
 
-use super::weights::{reweight, TrackOptions, Weighting};
+use super::weights::{ess_threshold, TrackOptions};
 use super::TrackError;
+use crate::baseline::run::PlanBaseline;
 use crate::inputs::monthly::MonthlySeries;
 use crate::month::Month;
 use crate::stats::{quantile_sorted, sort, weighted_quantile_sorted};
@@ -64,16 +81,22 @@ pub struct TrackReport {
     pub scenarios: usize,
     pub observed: Vec<ObservedMonth>,
     pub reforecast: Vec<ReforecastMonth>,
-    /// σ asked for and σ used (after widening).
+    /// Kept for scripts that read them: the update no longer reweights
+    /// futures, so σ is 0 (no likelihood tolerance), `widened` is false and
+    /// the effective sample size is the number of futures.
     pub sigma_initial: f64,
     pub sigma: f64,
-    /// True when σ had to be widened to keep enough futures in play.
     pub widened: bool,
-    /// Effective sample size of the weights and its threshold.
     pub ess: f64,
     pub ess_threshold: f64,
     pub target: Option<TargetUpdate>,
+    /// How the re-forecast was made, in one sentence.
     pub method: String,
+    /// How the update was made: `baseline-state-update`.
+    pub update: String,
+    /// The baseline method whose states were updated, and its update rule.
+    pub baseline_method: String,
+    pub baseline_update: String,
 }
 
 /// What to track.
@@ -89,9 +112,28 @@ pub struct TrackInput<'a> {
     pub metric: Metric,
     /// The target total over the horizon, in the same metric.
     pub target: Option<f64>,
+    /// What the re-forecast updates.
+    pub update: Update<'a>,
 }
 
-const METHOD: &str = "futures weighted by exp(-sum of squared log errors / (2 sigma^2)) over the observed months (importance weighting; Smith & Gelfand 1992); sigma doubled until the effective sample size reaches the threshold";
+/// The parts of the simulation the re-forecast updates.
+#[derive(Debug, Clone, Copy)]
+pub struct Update<'a> {
+    /// The plan's baseline (its fitted method and states).
+    pub baseline: &'a PlanBaseline,
+    /// The seed its paths were simulated with (future i on stream i).
+    pub seed: u64,
+    /// Funded incremental clicks, `S × horizon` (`target::funded_monthly`).
+    pub increments: &'a [f64],
+    /// The metric per click of each future: 1 for clicks, the revenue per
+    /// click for revenue.
+    pub per_click: &'a [f64],
+}
+
+/// The `update` field of the report.
+pub const UPDATE: &str = "baseline-state-update";
+
+const METHOD: &str = "each future's baseline states updated with the actuals less that future's funded increments (the baseline method's own recursion), and the remaining months re-simulated from the updated states on the same random streams; no future reweighted";
 
 /// The actuals column for `metric` (revenue needs a `revenue` column).
 pub fn actual_values(actuals: &MonthlySeries, metric: Metric) -> Result<Vec<f64>, TrackError> {
@@ -144,7 +186,40 @@ fn check(input: &TrackInput) -> Result<(usize, usize), TrackError> {
             ),
         });
     }
-    Ok((h, input.sims.len() / h))
+    let s = input.sims.len() / h;
+    let u = &input.update;
+    if u.increments.len() != s * h || u.per_click.len() != s {
+        return Err(TrackError::Argument {
+            what: "the funded increments".into(),
+            message: format!(
+                "{} increments and {} per-click values for {s} futures of {h} months",
+                u.increments.len(),
+                u.per_click.len()
+            ),
+        });
+    }
+    if u.baseline.forecast.horizon() != u.baseline.skip + h {
+        return Err(TrackError::Argument {
+            what: "the baseline".into(),
+            message: format!(
+                "forecasts {} months after a gap of {}; the plan has {h}",
+                u.baseline.forecast.horizon() - u.baseline.skip.min(u.baseline.forecast.horizon()),
+                u.baseline.skip
+            ),
+        });
+    }
+    if let Some(i) = u
+        .increments
+        .iter()
+        .chain(u.per_click)
+        .position(|v| !v.is_finite())
+    {
+        return Err(TrackError::Argument {
+            what: "the funded increments".into(),
+            message: format!("value {} is not a finite number", i + 1),
+        });
+    }
+    Ok((h, s))
 }
 
 fn column(sims: &[f64], h: usize, m: usize) -> Vec<f64> {
@@ -185,10 +260,10 @@ fn weighted_q(col: &[f64], w: &[f64]) -> [f64; 3] {
     [0.1, 0.5, 0.9].map(|q| weighted_quantile_sorted(&pairs, q))
 }
 
-fn reforecast_month(month: Month, col: &[f64], w: &Weighting) -> ReforecastMonth {
-    let equal = vec![1.0; col.len()];
-    let [a, b, c] = weighted_q(col, &equal);
-    let [p10, p50, p90] = weighted_q(col, &w.weights);
+fn reforecast_month(month: Month, prior: &[f64], post: &[f64]) -> ReforecastMonth {
+    let equal = vec![1.0; prior.len()];
+    let [a, b, c] = weighted_q(prior, &equal);
+    let [p10, p50, p90] = weighted_q(post, &equal);
     ReforecastMonth {
         month: month.to_string(),
         prior_p10: a,
@@ -200,51 +275,104 @@ fn reforecast_month(month: Month, col: &[f64], w: &Weighting) -> ReforecastMonth
     }
 }
 
-fn target_update(input: &TrackInput, h: usize, w: &Weighting, amount: f64) -> TargetUpdate {
+fn target_update(input: &TrackInput, post: &[f64], h: usize, amount: f64) -> TargetUpdate {
     let k = input.actuals.len();
     let seen: f64 = input.actuals.iter().sum();
-    let s = w.weights.len() as f64;
-    let mut prior = 0.0;
-    let mut updated = 0.0;
-    for (row, wt) in input.sims.chunks(h).zip(&w.weights) {
-        if row.iter().sum::<f64>() >= amount {
-            prior += 1.0 / s;
-        }
-        if seen + row[k..].iter().sum::<f64>() >= amount {
-            updated += wt;
-        }
-    }
+    let s = (input.sims.len() / h) as f64;
+    let prior = input
+        .sims
+        .chunks(h)
+        .filter(|row| row.iter().sum::<f64>() >= amount)
+        .count() as f64
+        / s;
+    let updated = post
+        .chunks(h)
+        .filter(|row| seen + row[k..].iter().sum::<f64>() >= amount)
+        .count() as f64
+        / s;
     TargetUpdate {
         amount,
         observed_so_far: seen,
         prior_chance: prior,
-        updated_chance: updated.min(1.0),
+        updated_chance: updated,
     }
 }
 
-/// The tracking report of `input` with reweighting options `opts`.
-pub fn track(input: &TrackInput, opts: &TrackOptions) -> Result<TrackReport, TrackError> {
+/// Re-forecast monthly totals `S × horizon` in the metric: the observed
+/// months hold the actuals, the later ones each future's updated baseline
+/// plus its increments, times its metric per click.
+pub fn reforecast_totals(input: &TrackInput) -> Result<Vec<f64>, TrackError> {
+    let (h, s) = check(input)?;
+    let u = &input.update;
+    let k = input.actuals.len();
+    let observed = |i: usize| -> Vec<f64> {
+        let v = u.per_click[i];
+        input
+            .actuals
+            .iter()
+            .zip(&u.increments[i * h..i * h + k])
+            .map(|(a, inc)| {
+                // A future worth nothing per click says nothing about the
+                // baseline: it keeps its own simulated months.
+                if v > 0.0 {
+                    (a / v - inc).max(0.0)
+                } else {
+                    0.0
+                }
+            })
+            .collect()
+    };
+    let base = u.baseline.paths_observed(s, u.seed, observed);
+    let mut out: Vec<f64> = base
+        .iter()
+        .zip(u.increments)
+        .enumerate()
+        .map(|(j, (b, inc))| (b + inc) * u.per_click[j / h])
+        .collect();
+    for row in out.chunks_mut(h) {
+        row[..k].copy_from_slice(input.actuals);
+    }
+    Ok(out)
+}
+
+/// The tracking report of `input`. `_opts` is kept for callers of the
+/// earlier reweighting; the update has no tolerance to set.
+pub fn track(input: &TrackInput, _opts: &TrackOptions) -> Result<TrackReport, TrackError> {
     let (h, s) = check(input)?;
     let k = input.actuals.len();
-    let w = reweight(input.actuals, input.sims, h, opts)?;
+    let post = reforecast_totals(input)?;
     let observed = (0..k)
         .map(|m| observed_month(input.months[m], input.actuals[m], column(input.sims, h, m)))
         .collect();
     let reforecast = (k..h)
-        .map(|m| reforecast_month(input.months[m], &column(input.sims, h, m), &w))
+        .map(|m| {
+            reforecast_month(
+                input.months[m],
+                &column(input.sims, h, m),
+                &column(&post, h, m),
+            )
+        })
         .collect();
+    let fitted = &input.update.baseline.forecast;
     Ok(TrackReport {
         metric: input.metric,
         scenarios: s,
         observed,
         reforecast,
-        sigma_initial: w.sigma_initial,
-        sigma: w.sigma,
-        widened: w.doublings > 0,
-        ess: w.ess,
-        ess_threshold: w.threshold,
-        target: input.target.map(|t| target_update(input, h, &w, t)),
+        sigma_initial: 0.0,
+        sigma: 0.0,
+        widened: false,
+        ess: s as f64,
+        ess_threshold: ess_threshold(s),
+        target: input.target.map(|t| target_update(input, &post, h, t)),
         method: METHOD.to_string(),
+        update: UPDATE.to_string(),
+        baseline_method: if fitted.damped {
+            format!("{} (damped)", fitted.method.name())
+        } else {
+            fitted.method.name().to_string()
+        },
+        baseline_update: fitted.fitted.update_rule().to_string(),
     })
 }
 
@@ -284,7 +412,7 @@ impl crate::output::Render for TrackReport {
             &rows,
         );
         if !self.reforecast.is_empty() {
-            out += "\nRe-forecast of the remaining months (futures weighted by how well they match the months seen):\n\n";
+            out += "\nRe-forecast of the remaining months (baseline states updated with the months seen):\n\n";
             let rows: Vec<Vec<String>> = self
                 .reforecast
                 .iter()
@@ -315,9 +443,8 @@ impl crate::output::Render for TrackReport {
             );
         }
         out += &format!(
-            "\nEffective sample size {} of {} futures (threshold {}); sigma {:.3} on the log scale{}.\n",
-            int(self.ess), int(self.scenarios as f64), int(self.ess_threshold), self.sigma,
-            if self.widened { format!(", widened from {:.3} because too few futures matched", self.sigma_initial) } else { String::new() }
+            "\nHow the re-forecast was made: {}. Baseline {}: {}.\n",
+            self.method, self.baseline_method, self.baseline_update
         );
         if let Some(t) = &self.target {
             out += &format!(
