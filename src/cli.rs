@@ -432,14 +432,6 @@ fn memory_limit(mib: Option<u64>) -> u64 {
         .unwrap_or_else(furrow::simulate::engine::default_memory_limit)
 }
 
-/// Maps a library error to its documented exit code.
-pub fn exit_code(e: &furrow::Error) -> u8 {
-    match e {
-        furrow::Error::Setting(_) => 2,
-        other => other.exit_code(),
-    }
-}
-
 fn set_threads(threads: Option<usize>) -> Result<()> {
     if let Some(n) = threads {
         if n == 0 {
@@ -776,6 +768,12 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             sim,
             format,
         } => {
+            if !(stress_weight.is_finite() && (0.0..=1.0).contains(&stress_weight)) {
+                return Err(furrow::Error::Setting(format!(
+                    "--stress-weight must be a share from 0 to 1 (probability on the stressed futures), found {stress_weight}"
+                ))
+                .into());
+            }
             let work = furrow::pipeline::Work::Stress {
                 presets: presets.clone(),
                 optimize_under: optimize_under.clone(),

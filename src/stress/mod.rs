@@ -83,7 +83,7 @@ impl From<StressError> for crate::Error {
                     message: e.to_string(),
                 }
             }
-            other => crate::Error::Setting(other.to_string()),
+            other => crate::Error::Stress(other),
         }
     }
 }

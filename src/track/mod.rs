@@ -33,8 +33,3 @@ pub enum TrackError {
     Argument { what: String, message: String },
 }
 
-impl From<TrackError> for crate::Error {
-    fn from(e: TrackError) -> Self {
-        crate::Error::Setting(e.to_string())
-    }
-}
