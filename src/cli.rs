@@ -781,14 +781,19 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             let s = simulate_plan(&plan, Overrides::default(), &sim, work)?;
             let opts = furrow::allocate::SolveOptions::default();
             let limit = memory_limit(sim.max_memory);
-            let chosen = match &optimize_under {
+            let base = s.allocate(&opts)?;
+            let (chosen, split) = match &optimize_under {
                 Some(name) => {
-                    furrow::analysis::allocate_under(&s, name, stress_weight, &opts, limit)?
+                    let c =
+                        furrow::analysis::allocate_under(&s, name, stress_weight, &opts, limit)?;
+                    let split = furrow::stress::optimized_split(name, stress_weight, &base, &c);
+                    (c, Some(split))
                 }
-                None => s.allocate(&opts)?,
+                None => (base, None),
             };
             let names = furrow::analysis::preset_names(&s, &presets);
-            let report = furrow::analysis::stress_report(&s, &chosen, &names, limit)?;
+            let mut report = furrow::analysis::stress_report(&s, &chosen, &names, limit)?;
+            report.optimized_under = split;
             out(&furrow::output::render(&report, format.into())?)?;
         }
         Command::Track {
