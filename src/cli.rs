@@ -64,6 +64,9 @@ struct SimFlags {
     /// Seed of all random streams (overrides the plan).
     #[arg(long)]
     seed: Option<u64>,
+    /// Months to forecast, 1 to 60 (overrides the plan).
+    #[arg(long, value_name = "MONTHS")]
+    horizon: Option<usize>,
     /// Worker threads (default: all cores). Results do not depend on it.
     #[arg(long)]
     threads: Option<usize>,
@@ -109,6 +112,7 @@ fn simulate_plan(
     let o = Overrides {
         seed: sim.seed,
         scenarios: sim.scenarios,
+        horizon: sim.horizon,
         ..o
     };
     let inputs = furrow::inputs::load::load(plan, &o)?;
@@ -220,6 +224,9 @@ enum Command {
         /// Number of simulated futures (overrides the plan).
         #[arg(long)]
         scenarios: Option<usize>,
+        /// Months to forecast, 1 to 60 (overrides the plan).
+        #[arg(long, value_name = "MONTHS")]
+        horizon: Option<usize>,
         /// Worker threads (default: all cores). Results do not depend on it.
         #[arg(long)]
         threads: Option<usize>,
@@ -237,6 +244,9 @@ enum Command {
     Check {
         /// The plan file (TOML).
         plan: PathBuf,
+        /// Months to forecast, 1 to 60 (overrides the plan).
+        #[arg(long, value_name = "MONTHS")]
+        horizon: Option<usize>,
     },
     /// Write a commented plan template and example inputs into DIR.
     Init {
@@ -309,6 +319,9 @@ enum Command {
         /// Seed of all random streams (overrides the plan).
         #[arg(long)]
         seed: Option<u64>,
+        /// Months to forecast, 1 to 60 (overrides the plan).
+        #[arg(long, value_name = "MONTHS")]
+        horizon: Option<usize>,
         /// Worker threads (default: all cores). Results do not depend on it.
         #[arg(long)]
         threads: Option<usize>,
@@ -459,8 +472,12 @@ fn out(text: &str) -> Result<()> {
 /// Runs the parsed command.
 pub fn run(cli: Cli) -> Result<ExitCode> {
     match cli.command {
-        Command::Check { plan } => {
-            let inputs = furrow::inputs::load::load(&plan, &Overrides::default())?;
+        Command::Check { plan, horizon } => {
+            let o = Overrides {
+                horizon,
+                ..Overrides::default()
+            };
+            let inputs = furrow::inputs::load::load(&plan, &o)?;
             // The model files and the economics are read too, so a broken
             // model file is found here and not halfway through a report.
             furrow::check::models(&inputs)?;
@@ -612,6 +629,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             plan,
             scenarios,
             seed,
+            horizon,
             threads,
             dump_scenarios,
             max_memory,
@@ -623,6 +641,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             let o = Overrides {
                 seed,
                 scenarios,
+                horizon,
                 ..Overrides::default()
             };
             let inputs = furrow::inputs::load::load(&plan, &o)?;
@@ -834,6 +853,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             out: dir,
             seed,
             scenarios,
+            horizon,
             threads,
             max_memory,
             quiet,
@@ -843,6 +863,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             let o = Overrides {
                 seed,
                 scenarios,
+                horizon,
                 ..Overrides::default()
             };
             let inputs = furrow::inputs::load::load(&plan, &o)?;
