@@ -327,9 +327,12 @@ impl StressReport {
 
 impl crate::output::Render for StressReport {
     fn table(&self) -> String {
-        use crate::text::{int, money, pct, table, Align::*};
+        use crate::text::{int, money, table, Align::*};
         let cur = &self.currency;
-        let opt_pct = |v: Option<f64>| v.map(|x| pct(x, 0)).unwrap_or_else(|| "n/a".into());
+        let opt_pct = |v: Option<f64>| {
+            v.map(|x| crate::text::chance(x, 0))
+                .unwrap_or_else(|| "n/a".into())
+        };
         let signed = |v: f64| {
             if v > 0.0 {
                 format!("+{}", money(v, cur))
