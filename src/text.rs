@@ -161,7 +161,7 @@ pub fn range(lo: f64, hi: f64) -> String {
     }
     let base = |v: f64| -> usize {
         let a = v.abs();
-        if a >= 100.0 || a < 1e-12 {
+        if !(1e-12..100.0).contains(&a) {
             0
         } else if a >= 1.0 {
             2

@@ -10,10 +10,18 @@ use std::collections::BTreeSet;
 use std::path::Path;
 
 /// Flags of other tools that the docs show (cargo's).
-const FOREIGN: &[&str] = &["--release", "--features", "--test", "--all-targets", "--all"];
+const FOREIGN: &[&str] = &[
+    "--release",
+    "--features",
+    "--test",
+    "--all-targets",
+    "--all",
+];
 
 /// The commands that read a plan and simulate it.
-const SIMULATING: &[&str] = &["report", "simulate", "allocate", "frontier", "stress", "track"];
+const SIMULATING: &[&str] = &[
+    "report", "simulate", "allocate", "frontier", "stress", "track",
+];
 
 fn doc(name: &str) -> String {
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
@@ -32,7 +40,8 @@ fn flags_in(text: &str) -> Vec<String> {
             && (i == 0 || !(b[i - 1].is_ascii_alphanumeric() || b[i - 1] == b'-'));
         if starts {
             let mut j = i + 2;
-            while j < b.len() && (b[j].is_ascii_lowercase() || b[j].is_ascii_digit() || b[j] == b'-')
+            while j < b.len()
+                && (b[j].is_ascii_lowercase() || b[j].is_ascii_digit() || b[j] == b'-')
             {
                 j += 1;
             }
@@ -129,7 +138,14 @@ fn the_flags_docs_say_override_the_plan_exist_on_the_commands_that_read_a_plan()
         );
     }
     // The interface: every simulating command takes these.
-    for f in ["--scenarios", "--seed", "--threads", "--max-memory", "--quiet", "--horizon"] {
+    for f in [
+        "--scenarios",
+        "--seed",
+        "--threads",
+        "--max-memory",
+        "--quiet",
+        "--horizon",
+    ] {
         for (c, h) in &helps {
             assert!(h.contains(f), "furrow {c} does not take {f}");
         }
@@ -143,12 +159,27 @@ fn horizon_on_the_command_line_overrides_the_plan() {
     let v = json(&furrow(
         &dir,
         &[
-            "simulate", "plan.toml", "--horizon", "5", "--scenarios", "200", "--quiet",
-            "--format", "json",
+            "simulate",
+            "plan.toml",
+            "--horizon",
+            "5",
+            "--scenarios",
+            "200",
+            "--quiet",
+            "--format",
+            "json",
         ],
     ));
-    assert_eq!(v["horizon"].as_u64(), Some(5), "{}", &v.to_string()[..200.min(v.to_string().len())]);
-    let o = furrow(&dir, &["allocate", "plan.toml", "--horizon", "0", "--quiet"]);
+    assert_eq!(
+        v["horizon"].as_u64(),
+        Some(5),
+        "{}",
+        &v.to_string()[..200.min(v.to_string().len())]
+    );
+    let o = furrow(
+        &dir,
+        &["allocate", "plan.toml", "--horizon", "0", "--quiet"],
+    );
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
     assert!(stderr(&o).contains("--horizon"), "{}", stderr(&o));
 }
@@ -194,7 +225,11 @@ fn parse_error(dir: &Path, section: &str, key: &str) -> String {
     } else {
         format!("{section}\n")
     };
-    write(dir, "keys.toml", format!("{head}{key} = \"?\"\n").as_bytes());
+    write(
+        dir,
+        "keys.toml",
+        format!("{head}{key} = \"?\"\n").as_bytes(),
+    );
     stderr(&furrow(dir, &["check", "keys.toml"]))
 }
 

@@ -21,7 +21,13 @@ fn a_track_failure_exits_1_not_as_a_usage_error() {
     let o = furrow(
         &dir,
         &[
-            "track", "plan.toml", "--actuals", "a.csv", "--scenarios", "200", "--quiet",
+            "track",
+            "plan.toml",
+            "--actuals",
+            "a.csv",
+            "--scenarios",
+            "200",
+            "--quiet",
         ],
     );
     assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));

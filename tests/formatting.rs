@@ -12,7 +12,9 @@ fn ungrouped_numbers(line: &str) -> Vec<String> {
     let b: Vec<char> = line.chars().collect();
     let mut i = 0;
     while i < b.len() {
-        if b[i].is_ascii_digit() && (i == 0 || !(b[i - 1].is_ascii_digit() || b[i - 1] == '.' || b[i - 1] == ',')) {
+        if b[i].is_ascii_digit()
+            && (i == 0 || !(b[i - 1].is_ascii_digit() || b[i - 1] == '.' || b[i - 1] == ','))
+        {
             let mut j = i;
             while j < b.len() && b[j].is_ascii_digit() {
                 j += 1;
@@ -32,7 +34,10 @@ fn ungrouped_numbers(line: &str) -> Vec<String> {
 #[test]
 fn explanation_bullets_print_numbers_with_the_tables_separators() {
     let (_t, dir) = project();
-    let o = furrow(&dir, &["allocate", "plan.toml", "--scenarios", "300", "--quiet"]);
+    let o = furrow(
+        &dir,
+        &["allocate", "plan.toml", "--scenarios", "300", "--quiet"],
+    );
     assert!(o.status.success(), "{}", stderr(&o));
     let text = stdout(&o);
     let bullets: Vec<&str> = text.lines().filter(|l| l.starts_with("- ")).collect();
@@ -46,11 +51,23 @@ fn explanation_bullets_print_numbers_with_the_tables_separators() {
 #[test]
 fn allocate_from_files_leaves_no_blank_where_the_currency_goes() {
     let (_t, dir) = project();
-    write(&dir, "r.csv", b"a,b\n100,-50\n-20,300\n40,10\n-10,-5\n250,90\n");
+    write(
+        &dir,
+        "r.csv",
+        b"a,b\n100,-50\n-20,300\n40,10\n-10,-5\n250,90\n",
+    );
     write(&dir, "c.csv", b"id,cost\na,1000\nb,2000\n");
     let o = furrow(
         &dir,
-        &["allocate", "--returns", "r.csv", "--costs", "c.csv", "--budget", "1500"],
+        &[
+            "allocate",
+            "--returns",
+            "r.csv",
+            "--costs",
+            "c.csv",
+            "--budget",
+            "1500",
+        ],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let text = stdout(&o);
@@ -69,7 +86,10 @@ fn widest(text: &str) -> usize {
 #[test]
 fn the_frontier_table_keeps_within_100_columns() {
     let (_t, dir) = project();
-    let o = furrow(&dir, &["frontier", "plan.toml", "--scenarios", "300", "--quiet"]);
+    let o = furrow(
+        &dir,
+        &["frontier", "plan.toml", "--scenarios", "300", "--quiet"],
+    );
     assert!(o.status.success(), "{}", stderr(&o));
     let text = stdout(&o);
     assert!(widest(&text) <= 100, "{} columns:\n{text}", widest(&text));

@@ -157,6 +157,9 @@ mod tests {
             budget: 12000.0,
         }
         .to_string();
-        assert!(m.contains("cost 15,000.00 but the budget is 12,000.00"), "{m}");
+        assert!(
+            m.contains("cost 15,000.00 but the budget is 12,000.00"),
+            "{m}"
+        );
     }
 }

@@ -225,11 +225,7 @@ fn forecast_refs(p: &mut Plot, sm: &Summary, first: Month) {
         // The target in the baseline's seasonal shape, month by month, so
         // each month compares with its own fan (see `seasonal_target`).
         let xs = positions(sm, first);
-        let pts: Vec<(f64, f64)> = xs
-            .iter()
-            .copied()
-            .zip(target_by_month(sm))
-            .collect();
+        let pts: Vec<(f64, f64)> = xs.iter().copied().zip(target_by_month(sm)).collect();
         p.line(
             &pts,
             "s-target",
@@ -492,7 +488,9 @@ mod tests {
     #[test]
     fn the_target_is_drawn_in_the_baseline_seasonal_shape_not_as_a_flat_average() {
         // A seasonal baseline: high in the middle of the year.
-        let base = [40.0, 45.0, 60.0, 70.0, 70.0, 60.0, 50.0, 45.0, 42.0, 44.0, 40.0, 40.0];
+        let base = [
+            40.0, 45.0, 60.0, 70.0, 70.0, 60.0, 50.0, 45.0, 42.0, 44.0, 40.0, 40.0,
+        ];
         let total = 720.0;
         let t = seasonal_target(total, &base);
         assert_eq!(t.len(), 12);

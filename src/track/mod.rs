@@ -32,4 +32,3 @@ pub enum TrackError {
     #[error("{what}: {message}")]
     Argument { what: String, message: String },
 }
-
