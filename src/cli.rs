@@ -70,6 +70,9 @@ struct SimFlags {
     /// Seed of all random streams (overrides the plan).
     #[arg(long)]
     seed: Option<u64>,
+    /// Months to forecast, 1 to 60 (overrides the plan).
+    #[arg(long, value_name = "MONTHS")]
+    horizon: Option<usize>,
     /// Worker threads (default: all cores). Results do not depend on it.
     #[arg(long)]
     threads: Option<usize>,
@@ -115,6 +118,7 @@ fn simulate_plan(
     let o = Overrides {
         seed: sim.seed,
         scenarios: sim.scenarios,
+        horizon: sim.horizon,
         ..o
     };
     let inputs = furrow::inputs::load::load(plan, &o)?;
@@ -226,6 +230,9 @@ enum Command {
         /// Number of simulated futures (overrides the plan).
         #[arg(long)]
         scenarios: Option<usize>,
+        /// Months to forecast, 1 to 60 (overrides the plan).
+        #[arg(long, value_name = "MONTHS")]
+        horizon: Option<usize>,
         /// Worker threads (default: all cores). Results do not depend on it.
         #[arg(long)]
         threads: Option<usize>,
@@ -243,6 +250,9 @@ enum Command {
     Check {
         /// The plan file (TOML).
         plan: PathBuf,
+        /// Months to forecast, 1 to 60 (overrides the plan).
+        #[arg(long, value_name = "MONTHS")]
+        horizon: Option<usize>,
     },
     /// Write a commented plan template and example inputs into DIR.
     Init {
@@ -321,6 +331,9 @@ enum Command {
         /// Seed of all random streams (overrides the plan).
         #[arg(long)]
         seed: Option<u64>,
+        /// Months to forecast, 1 to 60 (overrides the plan).
+        #[arg(long, value_name = "MONTHS")]
+        horizon: Option<usize>,
         /// Worker threads (default: all cores). Results do not depend on it.
         #[arg(long)]
         threads: Option<usize>,
@@ -444,14 +457,6 @@ fn memory_limit(mib: Option<u64>) -> u64 {
         .unwrap_or_else(furrow::simulate::engine::default_memory_limit)
 }
 
-/// Maps a library error to its documented exit code.
-pub fn exit_code(e: &furrow::Error) -> u8 {
-    match e {
-        furrow::Error::Setting(_) => 2,
-        other => other.exit_code(),
-    }
-}
-
 fn set_threads(threads: Option<usize>) -> Result<()> {
     if let Some(n) = threads {
         if n == 0 {
@@ -479,8 +484,12 @@ fn out(text: &str) -> Result<()> {
 /// Runs the parsed command.
 pub fn run(cli: Cli) -> Result<ExitCode> {
     match cli.command {
-        Command::Check { plan } => {
-            let inputs = furrow::inputs::load::load(&plan, &Overrides::default())?;
+        Command::Check { plan, horizon } => {
+            let o = Overrides {
+                horizon,
+                ..Overrides::default()
+            };
+            let inputs = furrow::inputs::load::load(&plan, &o)?;
             // The model files and the economics are read too, so a broken
             // model file is found here and not halfway through a report.
             furrow::check::models(&inputs)?;
@@ -641,6 +650,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             plan,
             scenarios,
             seed,
+            horizon,
             threads,
             dump_scenarios,
             max_memory,
@@ -652,6 +662,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             let o = Overrides {
                 seed,
                 scenarios,
+                horizon,
                 ..Overrides::default()
             };
             let inputs = furrow::inputs::load::load(&plan, &o)?;
@@ -797,6 +808,12 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             sim,
             format,
         } => {
+            if !(stress_weight.is_finite() && (0.0..=1.0).contains(&stress_weight)) {
+                return Err(furrow::Error::Setting(format!(
+                    "--stress-weight must be a share from 0 to 1 (probability on the stressed futures), found {stress_weight}"
+                ))
+                .into());
+            }
             let work = furrow::pipeline::Work::Stress {
                 presets: presets.clone(),
                 optimize_under: optimize_under.clone(),
@@ -804,14 +821,19 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             let s = simulate_plan(&plan, Overrides::default(), &sim, work)?;
             let opts = furrow::allocate::SolveOptions::default();
             let limit = memory_limit(sim.max_memory);
-            let chosen = match &optimize_under {
+            let base = s.allocate(&opts)?;
+            let (chosen, split) = match &optimize_under {
                 Some(name) => {
-                    furrow::analysis::allocate_under(&s, name, stress_weight, &opts, limit)?
+                    let c =
+                        furrow::analysis::allocate_under(&s, name, stress_weight, &opts, limit)?;
+                    let split = furrow::stress::optimized_split(name, stress_weight, &base, &c);
+                    (c, Some(split))
                 }
-                None => s.allocate(&opts)?,
+                None => (base, None),
             };
             let names = furrow::analysis::preset_names(&s, &presets);
-            let report = furrow::analysis::stress_report(&s, &chosen, &names, limit)?;
+            let mut report = furrow::analysis::stress_report(&s, &chosen, &names, limit)?;
+            report.optimized_under = split;
             out(&furrow::output::render(&report, format.into())?)?;
         }
         Command::Track {
@@ -859,6 +881,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             out: dir,
             seed,
             scenarios,
+            horizon,
             threads,
             max_memory,
             quiet,
@@ -868,6 +891,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             let o = Overrides {
                 seed,
                 scenarios,
+                horizon,
                 ..Overrides::default()
             };
             let inputs = furrow::inputs::load::load(&plan, &o)?;

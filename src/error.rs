@@ -183,6 +183,20 @@ pub enum Error {
     /// The allocation could not be solved (exit 3 when infeasible).
     #[error(transparent)]
     Allocate(#[from] crate::allocate::AllocError),
+    /// Target odds could not be computed (a `[target]` setting or the
+    /// simulated totals cannot be used).
+    #[error(transparent)]
+    Target(#[from] crate::target::TargetError),
+    /// Variance drivers could not be ranked.
+    #[error(transparent)]
+    Drivers(#[from] crate::drivers::DriversError),
+    /// Tracking failed (the actuals or the simulated totals cannot be used).
+    #[error(transparent)]
+    Track(#[from] crate::track::TrackError),
+    /// A stress test failed for a reason other than a bad preset file (a bad
+    /// preset file is a [`Error::Model`]).
+    #[error(transparent)]
+    Stress(crate::stress::StressError),
 }
 
 /// A message without a leading "ORIGIN: " that the error already names.
@@ -194,7 +208,12 @@ fn without_origin<'a>(origin: &str, message: &'a str) -> &'a str {
 }
 
 impl Error {
-    /// The documented exit code: 1 failure, 2 usage, 3 infeasible.
+    /// The documented exit code: 1 failure, 2 usage, 3 infeasible. This is
+    /// the only place where errors are mapped to exit codes: 2 is kept for
+    /// settings given on the command line or in the plan that are out of
+    /// range ([`Error::Setting`], bad baseline parameters); the failures of
+    /// target, drivers, tracking and stress are failures (1), not usage
+    /// errors.
     pub fn exit_code(&self) -> u8 {
         use crate::baseline::BaselineError as B;
         match self {
@@ -248,6 +267,45 @@ mod tests {
     #[test]
     fn exit_codes() {
         assert_eq!(Error::Infeasible("x".into()).exit_code(), 3);
+    }
+
+    #[test]
+    fn target_drivers_track_and_stress_failures_exit_1_not_as_usage_errors() {
+        use crate::drivers::DriversError;
+        use crate::stress::StressError;
+        use crate::target::TargetError;
+        use crate::track::TrackError;
+        let target = TargetError::Setting {
+            key: "growth".into(),
+            message: "needs 12 months".into(),
+        };
+        let cases: Vec<Error> = vec![
+            target.clone().into(),
+            DriversError::Argument {
+                what: "w".into(),
+                message: "m".into(),
+            }
+            .into(),
+            TrackError::Actuals("no revenue column".into()).into(),
+            StressError::Argument {
+                what: "w".into(),
+                message: "m".into(),
+            }
+            .into(),
+            StressError::Target(target).into(),
+        ];
+        for e in &cases {
+            assert_eq!(e.exit_code(), 1, "{e}");
+            assert!(!matches!(e, Error::Setting(_)), "{e:?} is typed");
+        }
+        // A bad preset file is a model-file error.
+        let bad_preset: Error = StressError::Parse {
+            origin: "models/stress/x.toml".into(),
+            message: "bad".into(),
+        }
+        .into();
+        assert!(matches!(bad_preset, Error::Model { .. }));
+        assert_eq!(bad_preset.exit_code(), 1);
     }
 
     #[test]

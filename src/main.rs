@@ -19,7 +19,7 @@ fn main() -> ExitCode {
             eprintln!("error: {}", furrow::text::visible_lines(&message(&err)));
             let code = err
                 .downcast_ref::<furrow::Error>()
-                .map(cli::exit_code)
+                .map(furrow::Error::exit_code)
                 .unwrap_or(1);
             ExitCode::from(code)
         }

@@ -50,11 +50,130 @@ pub fn int(v: f64) -> String {
 }
 
 /// An amount with its currency, in whole units; "n/a" when not finite.
+/// Without a currency (allocating from files, `--returns`) the amount is
+/// printed alone, with no blank where the currency would go.
 pub fn money(v: f64, currency: &str) -> String {
     if !v.is_finite() {
         return "n/a".into();
     }
+    if currency.trim().is_empty() {
+        return number(v, 0);
+    }
     format!("{currency} {}", number(v, 0))
+}
+
+/// The name of one unit of money: the currency, or "unit" without one.
+pub fn unit_name(currency: &str) -> &str {
+    if currency.trim().is_empty() {
+        "unit"
+    } else {
+        currency
+    }
+}
+
+/// A figure in prose (bullets, notes, error messages) with the tables'
+/// thousands separators and a precision that suits its size: whole units
+/// from 100 up (`7,755`), two decimals from 1, three significant digits
+/// below (`0.0123`); "0" for zero, "n/a" when not finite.
+pub fn figure(v: f64) -> String {
+    if !v.is_finite() {
+        return "n/a".into();
+    }
+    let a = v.abs();
+    if a < 1e-12 {
+        "0".into()
+    } else if a >= 100.0 {
+        number(v, 0)
+    } else if a >= 1.0 {
+        trim_zeros(number(v, 2))
+    } else {
+        let decimals = (2.0 - a.log10().floor()).clamp(1.0, 12.0) as usize;
+        number(v, decimals)
+    }
+}
+
+/// A chance (a share of futures) as a percentage with `decimals`
+/// decimals, never rounded to 100 % or 0 % unless it is exactly 1 or 0:
+/// 0.998 is "99.8 %", 0.99996 "> 99.9 %", 0.003 "0.3 %", 0.00004 "< 0.1 %".
+/// "n/a" when not finite.
+pub fn chance(v: f64, decimals: usize) -> String {
+    if !v.is_finite() {
+        return "n/a".into();
+    }
+    if v >= 1.0 || v <= 0.0 {
+        return pct(v.clamp(0.0, 1.0), 0);
+    }
+    let x = v * 100.0;
+    for d in decimals..=decimals.max(1) {
+        let text = number(x, d);
+        let r: f64 = text.replace(',', "").parse().unwrap_or(x);
+        if r > 0.0 && r < 100.0 {
+            return format!("{text} %");
+        }
+    }
+    let d = decimals.max(1);
+    let step = 10f64.powi(-(d as i32));
+    if x < 50.0 {
+        format!("< {} %", number(step, d))
+    } else {
+        format!("> {} %", number(100.0 - step, d))
+    }
+}
+
+/// `items` joined by `sep` and wrapped between items to lines of at most
+/// `width` characters (an item longer than that keeps a line of its own),
+/// the lines after the first indented by `indent` spaces; every line ends
+/// with a line break.
+pub fn wrap(items: &[String], sep: &str, width: usize, indent: usize) -> String {
+    let mut out = String::new();
+    let mut line = String::new();
+    let mut empty = true;
+    for (k, item) in items.iter().enumerate() {
+        let piece = if k + 1 < items.len() {
+            format!("{item}{}", sep.trim_end())
+        } else {
+            item.clone()
+        };
+        let gap = if empty { "" } else { " " };
+        if !empty && line.chars().count() + gap.len() + piece.chars().count() > width {
+            out.push_str(&line);
+            out.push('\n');
+            line = " ".repeat(indent);
+            empty = true;
+        }
+        if !empty {
+            line.push(' ');
+        }
+        line.push_str(&piece);
+        empty = false;
+    }
+    out.push_str(&line);
+    out.push('\n');
+    out
+}
+
+/// A range `lo .. hi` printed with enough digits that two different ends
+/// differ: `0.0186 .. 0.0194`, not `0.019 .. 0.019`. Values from 100 up are
+/// whole with separators unless that hides the difference.
+pub fn range(lo: f64, hi: f64) -> String {
+    if !(lo.is_finite() && hi.is_finite()) {
+        return format!("{} .. {}", figure(lo), figure(hi));
+    }
+    let base = |v: f64| -> usize {
+        let a = v.abs();
+        if !(1e-12..100.0).contains(&a) {
+            0
+        } else if a >= 1.0 {
+            2
+        } else {
+            (2.0 - a.log10().floor()).clamp(1.0, 12.0) as usize
+        }
+    };
+    let mut d = base(lo).max(base(hi));
+    while lo != hi && number(lo, d) == number(hi, d) && d < 12 {
+        d += 1;
+    }
+    format!("{} .. {}", number(lo, d), number(hi, d))
 }
 
 /// A share as a percentage (`0.123` → `12.3 %`), "n/a" when not finite.
@@ -247,6 +366,49 @@ mod tests {
         assert_eq!(visible("\u{9b}"), "\\u{9b}");
         let t = table(&["n"], &[Align::Left], &[vec!["x\u{1b}y".into()]]);
         assert!(!t.contains('\u{1b}') && t.contains("x\\x1by"), "{t}");
+    }
+
+    #[test]
+    fn prose_figures_use_the_tables_separators_not_raw_floats() {
+        // "spending 7755 of the budget of 15000", "limit 500.000000".
+        assert_eq!(figure(7755.2), "7,755");
+        assert_eq!(figure(15000.0), "15,000");
+        assert_eq!(figure(500.0), "500");
+        assert_eq!(figure(-1234.6), "-1,235");
+        assert_eq!(figure(1.5), "1.5");
+        assert_eq!(figure(1.0), "1");
+        assert_eq!(figure(0.01234), "0.0123");
+        assert_eq!(figure(0.0), "0");
+    }
+
+    #[test]
+    fn a_money_amount_without_currency_has_no_blank() {
+        assert_eq!(money(1234.0, ""), "1,234");
+        assert_eq!(money(1234.0, "EUR"), "EUR 1,234");
+        assert_eq!(unit_name(""), "unit");
+        assert_eq!(unit_name("EUR"), "EUR");
+    }
+
+    #[test]
+    fn a_chance_of_99_8_percent_is_not_printed_as_100_percent() {
+        assert_eq!(chance(0.998, 0), "99.8 %");
+        assert_eq!(chance(0.99996, 0), "> 99.9 %");
+        assert_eq!(chance(0.003, 0), "0.3 %");
+        assert_eq!(chance(0.00004, 0), "< 0.1 %");
+        assert_eq!(chance(0.00004, 1), "< 0.1 %");
+        assert_eq!(chance(1.0, 0), "100 %");
+        assert_eq!(chance(0.0, 0), "0 %");
+        assert_eq!(chance(0.42, 0), "42 %");
+        assert_eq!(chance(0.4234, 1), "42.3 %");
+    }
+
+    #[test]
+    fn a_narrow_spread_prints_enough_digits_to_show_the_difference() {
+        assert_eq!(range(0.0186, 0.0194), "0.0186 .. 0.0194");
+        assert_eq!(range(0.01901, 0.01904), "0.01901 .. 0.01904");
+        assert_eq!(range(1200.0, 3400.0), "1,200 .. 3,400");
+        assert_eq!(range(1200.2, 1200.4), "1,200.2 .. 1,200.4");
+        assert_eq!(range(0.5, 0.5), "0.500 .. 0.500");
     }
 
     #[test]

@@ -225,7 +225,7 @@ fn whole_tiers_refuse_large_instances_with_the_continuous_answer() {
     let msg = e.to_string();
     assert!(msg.contains("66 tiers exceed the limit of 60"), "{msg}");
     assert!(
-        msg.contains(&format!("{:.6}", cont.expected_net_return)),
+        msg.contains(&furrow::text::figure(cont.expected_net_return)),
         "{msg}"
     );
 }

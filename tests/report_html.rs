@@ -332,13 +332,27 @@ fn forecast_marks_are_the_forecast_of_summary_json() {
         history.len(),
         num(&r.json["check"]["history_months"]) as usize
     );
-    // The target in clicks: its line is the monthly average needed.
+    // The target in clicks: one value per forecast month, adding up to the
+    // target, in the shape of the baseline's median (issue 14: a flat
+    // monthly average over a seasonal series cannot be compared honestly).
     let t = &r.json["target"];
     let line = tags(&r.html, "s-target");
-    let line: Vec<&&str> = line.iter().filter(|l| l.contains("data-value")).collect();
+    let line: Vec<&&str> = line.iter().filter(|l| l.contains("data-values")).collect();
     assert_eq!(line.len(), 1);
-    let avg = num(&t["target"]) / num(&t["horizon"]);
-    assert!(close(attr(line[0], "data-value"), avg));
+    assert!(close(attr(line[0], "data-total"), num(&t["target"])));
+    let re = Regex::new(r#" data-values="([^"]*)""#).expect("valid pattern");
+    let values: Vec<f64> = re.captures(line[0]).expect("data-values")[1]
+        .split(' ')
+        .map(|v| v.parse().expect("a number"))
+        .collect();
+    let f = r.json["forecast"].as_array().expect("forecast rows");
+    assert_eq!(values.len(), f.len());
+    assert!(close(values.iter().sum::<f64>(), num(&t["target"])));
+    let base: Vec<f64> = f.iter().map(|m| num(&m["baseline_p50"])).collect();
+    let bsum: f64 = base.iter().sum();
+    for (v, b) in values.iter().zip(&base) {
+        assert!((v / num(&t["target"]) - b / bsum).abs() < 1e-6, "{v} {b}");
+    }
 }
 
 #[test]

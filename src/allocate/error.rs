@@ -21,9 +21,11 @@ pub enum AllocError {
 
     /// No allocation meets the tail-loss limit.
     #[error(
-        "no allocation keeps the tail loss at or under the limit {limit:.6}: the smallest tail \
-         loss achievable with this budget is {min_tail_loss:.6}; raise --max-tail-loss to at \
-         least that, or lower the must-fund minimums"
+        "no allocation keeps the tail loss at or under the limit {}: the smallest tail \
+         loss achievable with this budget is {}; raise --max-tail-loss to at \
+         least that, or lower the must-fund minimums",
+        crate::text::figure(*limit),
+        crate::text::figure(*min_tail_loss)
     )]
     Infeasible {
         /// The smallest CVaR of loss any allocation within the budget reaches.
@@ -35,8 +37,11 @@ pub enum AllocError {
     /// The must-fund minimums cost more than the budget: no allocation
     /// exists whatever the tail-loss limit.
     #[error(
-        "budget: the must-fund minimums cost {cost:.2} but the budget is {budget:.2}; raise \
-         --budget to at least {cost:.2} or lower the minimums (min_fraction)"
+        "budget: the must-fund minimums cost {} but the budget is {}; raise \
+         --budget to at least {} or lower the minimums (min_fraction)",
+        crate::text::number(*cost, 2),
+        crate::text::number(*budget, 2),
+        crate::text::number(*cost, 2)
     )]
     MinimumsOverBudget {
         /// Cost of the minimums (with the tiers they require).
@@ -49,7 +54,8 @@ pub enum AllocError {
     #[error(
         "--whole-tiers: {variables} tiers exceed the limit of {max_binary_vars} whole-tier \
          (binary) variables; the continuous allocation has an expected net return of \
-         {continuous_expected_return:.6}; drop --whole-tiers or raise max_binary_vars"
+         {}; drop --whole-tiers or raise max_binary_vars",
+        crate::text::figure(*continuous_expected_return)
     )]
     WholeTiersTooLarge {
         /// Number of investment ids.
@@ -129,5 +135,31 @@ impl AllocError {
             field: field.into(),
             message: message.into(),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn error_messages_print_amounts_like_the_tables_not_raw_floats() {
+        let e = AllocError::Infeasible {
+            min_tail_loss: 1234.5678,
+            limit: 500.0,
+        }
+        .to_string();
+        assert!(e.contains("limit 500:"), "{e}");
+        assert!(e.contains("is 1,235;"), "{e}");
+        assert!(!e.contains("500.000000"), "{e}");
+        let m = AllocError::MinimumsOverBudget {
+            cost: 15000.0,
+            budget: 12000.0,
+        }
+        .to_string();
+        assert!(
+            m.contains("cost 15,000.00 but the budget is 12,000.00"),
+            "{m}"
+        );
     }
 }

@@ -6,7 +6,9 @@
 use super::frontier::FrontierPoint;
 use super::result::Allocation;
 use crate::output::{num, opt, Render, Rows};
-use crate::text::{money, pct, ratio, table, tail_level, tail_share, Align::*};
+use crate::text::{
+    chance, figure, money, pct, ratio, table, tail_level, tail_share, unit_name, wrap, Align::*,
+};
 use serde::Serialize;
 
 /// An allocation with the currency to print it in.
@@ -57,11 +59,13 @@ impl Render for AllocationOutput {
             money(a.expected_net_return, cur),
             ratio(a.expected_roi),
             money(a.value_at_risk, cur),
-            pct(a.chance_of_loss, 1),
+            chance(a.chance_of_loss, 1),
         );
+        let unit = unit_name(cur);
         out += &format!(
-            "One more {cur} of budget is worth {:.3} {cur} of expected net return; one more {cur} of tolerated tail loss is worth {:.3} {cur}.\n",
-            a.budget_dual, a.risk_dual
+            "One more {unit} of budget is worth {} of expected net return;\none more {unit} of tolerated tail loss is worth {}.\n",
+            figure(a.budget_dual),
+            figure(a.risk_dual)
         );
         for b in &a.binding {
             out += &format!("- {b}\n");
@@ -103,26 +107,46 @@ impl Render for FrontierOutput {
     fn table(&self) -> String {
         let cur = &self.currency;
         let money_of = |v: Option<f64>| v.map_or_else(|| "missing".to_string(), |v| money(v, cur));
+        // The funded tiers of each point are listed under the table, wrapped,
+        // so the table keeps within 100 columns whatever the tiers' names.
+        let mut funded_lines = String::new();
         let rows: Vec<Vec<String>> = self
             .points
             .iter()
-            .map(|p| {
-                let funded = match &p.missing {
-                    Some(why) => format!("not solved: {why}"),
-                    None => p
-                        .allocation
-                        .iter()
-                        .filter(|i| i.fraction > 1e-6)
-                        .map(|i| format!("{} {:.0}%", i.id, i.fraction * 100.0))
-                        .collect::<Vec<String>>()
-                        .join(", "),
+            .enumerate()
+            .map(|(k, p)| {
+                let (count, list) = match &p.missing {
+                    Some(why) => ("-".to_string(), vec![format!("not solved: {why}")]),
+                    None => {
+                        let f: Vec<String> = p
+                            .allocation
+                            .iter()
+                            .filter(|i| i.fraction > 1e-6)
+                            .map(|i| format!("{} {}", i.id, pct(i.fraction, 0)))
+                            .collect();
+                        let n = f.len().to_string();
+                        let list = if f.is_empty() {
+                            vec!["nothing funded".to_string()]
+                        } else {
+                            f
+                        };
+                        (n, list)
+                    }
                 };
+                // The point's number leads its first line (the list is
+                // never empty: a point funds tiers, nothing, or is missing).
+                let mut items = list;
+                if let Some(first) = items.first_mut() {
+                    *first = format!("{:>2}. {first}", k + 1);
+                }
+                funded_lines += &wrap(&items, ", ", 100, 4);
                 vec![
+                    (k + 1).to_string(),
                     money(p.max_tail_loss, cur),
                     money_of(p.expected_net_return),
                     money_of(p.tail_loss),
                     money_of(p.budget_used),
-                    funded,
+                    count,
                 ]
             })
             .collect();
@@ -132,15 +156,18 @@ impl Render for FrontierOutput {
         );
         out += &table(
             &[
+                "point",
                 "tail-loss limit",
                 "expected net return",
                 "tail loss",
                 "spend",
-                "funded",
+                "tiers funded",
             ],
-            &[Right, Right, Right, Right, Left],
+            &[Right, Right, Right, Right, Right, Right],
             &rows,
         );
+        out += "\nFunded at each point (share of each tier's cost):\n";
+        out += &funded_lines;
         let missing = self.points.iter().filter(|p| !p.is_solved()).count();
         if missing > 0 {
             out += &format!(

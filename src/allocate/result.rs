@@ -299,20 +299,14 @@ fn nothing_reason(p: &Problem, means: &[f64], whole: bool) -> String {
     }
 }
 
-/// An amount with sensible precision.
+/// An amount with sensible precision and the tables' thousands
+/// separators ([`crate::text::figure`]).
 pub(crate) fn amount(v: f64) -> String {
-    if v.abs() < 1e-12 {
-        "0".to_string()
-    } else if v.abs() >= 100.0 {
-        format!("{v:.0}")
-    } else if v.abs() >= 1.0 {
-        format!("{v:.2}")
-    } else {
-        format!("{v:.4}")
-    }
+    crate::text::figure(v)
 }
 
+/// A share with one decimal at most, never rounded to 100 % or 0 % unless
+/// exact ([`crate::text::chance`]).
 fn pct(v: f64) -> String {
-    let s = format!("{:.1}", 100.0 * v);
-    format!("{} %", s.trim_end_matches(".0"))
+    crate::text::chance(v, 1).replace(".0 %", " %")
 }

@@ -4,7 +4,7 @@
 //! forecast too, then dropped), and labels every forecast month. Also the
 //! output of `furrow baseline` (table, JSON, CSV).
 
-use super::{forecast, BaselineForecast, BaselineOptions, Candidate, Method};
+use super::{forecast, BaselineError, BaselineForecast, BaselineOptions, Candidate, Method};
 use crate::error::{Error, Result};
 use crate::inputs::monthly::MonthlySeries;
 use crate::month::Month;
@@ -108,7 +108,13 @@ pub fn run(
     }
     let mut o = opts.clone();
     o.horizon = opts.horizon + skip;
-    let fc = forecast(y, aligned.as_deref(), &o)?;
+    // A history too short for the baseline names its file.
+    let fc = forecast(y, aligned.as_deref(), &o).map_err(|e| match e {
+        BaselineError::TooShort { .. } | BaselineError::NotEnoughForMethod { .. } => {
+            Error::Unsupported(format!("{}: {e}", history.file))
+        }
+        other => Error::Baseline(other),
+    })?;
     let output = output(&fc, history, col, skip, last.plus(1));
     Ok(PlanBaseline {
         forecast: fc,

@@ -198,6 +198,26 @@ impl OrderValue {
     }
 }
 
+/// What the money of a click is made of: stated explicitly, so that a
+/// conversion rate of 100 % is never mistaken for a value per click.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum ValueBasis {
+    /// Clicks convert at the conversion rate into orders of the order value.
+    #[default]
+    Orders,
+    /// Every click is worth the order value (the plan's `value_per_click`);
+    /// the conversion rate is 1 by construction and is not a rate.
+    PerClick,
+}
+
+impl ValueBasis {
+    /// True for [`ValueBasis::Orders`] (kept out of JSON, the usual case).
+    pub fn is_orders(&self) -> bool {
+        *self == ValueBasis::Orders
+    }
+}
+
 /// A business's economics.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Economics {
@@ -205,6 +225,9 @@ pub struct Economics {
     pub order_value: OrderValue,
     /// Gross margin in [0, 1].
     pub margin: f64,
+    /// Orders (rate times order value) or a value per click.
+    #[serde(skip_serializing_if = "ValueBasis::is_orders")]
+    pub basis: ValueBasis,
 }
 
 impl Economics {
@@ -226,17 +249,22 @@ impl Economics {
             conversion_rate,
             order_value,
             margin,
+            basis: ValueBasis::Orders,
         })
     }
 
     /// A value per click: conversion rate 1 and order value `value` (its
     /// spread then comes from `factors.order_value_cv`).
     pub fn value_per_click(value: f64, margin: f64) -> Result<Economics, ClicksError> {
-        Economics::new(
+        let e = Economics::new(
             ConversionRate::Fixed(1.0),
             OrderValue::new(value, None)?,
             margin,
-        )
+        )?;
+        Ok(Economics {
+            basis: ValueBasis::PerClick,
+            ..e
+        })
     }
 
     /// Money of `clicks` at the mean conversion rate and order value.

@@ -24,7 +24,7 @@ pub use ctr::{CtrCurve, CtrLookup};
 pub use ctr_fit::{fit, CtrFit, FitOptions, QueryRow};
 pub use economics::{
     incremental_clicks, monthly_money, return_on_spend, roi, ConversionRate, Economics, Money,
-    OrderValue, Seasonality,
+    OrderValue, Seasonality, ValueBasis,
 };
 pub use factors::{Factors, Reuse, SiteDraw, SiteSampler};
 pub use gain_distribution::{ExplicitGain, GainDistribution, GainScale};

@@ -38,9 +38,3 @@ pub enum DriversError {
     #[error(transparent)]
     Target(#[from] TargetError),
 }
-
-impl From<DriversError> for crate::Error {
-    fn from(e: DriversError) -> Self {
-        crate::Error::Setting(e.to_string())
-    }
-}

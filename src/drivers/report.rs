@@ -115,7 +115,7 @@ impl crate::output::Render for DriverReport {
                         },
                         pct(d.rank_r2, 1),
                         pct(d.share, 0),
-                        format!("{} .. {}", value(d.input_p10), value(d.input_p90)),
+                        crate::text::range(d.input_p10, d.input_p90),
                         value(d.outcome_low),
                         value(d.outcome_high),
                         value(d.swing),

@@ -414,17 +414,16 @@ impl Plot {
         }
     }
 
-    /// A horizontal reference line at `y`, labelled above its left end.
-    pub fn hline(&mut self, y: f64, class: &str, label: &str, extra: Attrs) {
-        if !y.is_finite() {
+    /// A label ending just above data point `(x, y)` (a direct label for
+    /// a reference series); nothing when the point is not finite.
+    pub fn label_at(&mut self, x: f64, y: f64, label: &str) {
+        let (px, py) = self.at(x, y);
+        if !(px.is_finite() && py.is_finite()) {
             return;
         }
-        let a = self.area;
-        let py = self.y.at(y);
-        self.svg.line((a.left, py), (a.right, py), class, extra);
-        let at = (a.left + 6.0, py - 5.0);
-        self.svg.text(at, Anchor::Start, "ref-label halo", label);
-        self.svg.text(at, Anchor::Start, "ref-label", label);
+        let at = (px, py - 8.0);
+        self.svg.text(at, Anchor::End, "ref-label halo", label);
+        self.svg.text(at, Anchor::End, "ref-label", label);
     }
 
     /// A vertical reference line at `x`, labelled near the top; `row`

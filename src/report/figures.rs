@@ -38,6 +38,37 @@ fn monthly_target(sm: &Summary) -> Option<(f64, f64, usize)> {
     (clicks && t.horizon > 0).then(|| (t.target / t.horizon as f64, t.target, t.horizon))
 }
 
+/// The target spread over the forecast months in the shape of the
+/// baseline's median (its seasonality and trend): month `i` gets
+/// `total × baseline_i / Σ baseline`, so the months add up to the target
+/// and each can be compared with the fan of the same month. A flat average
+/// over a seasonal series would sit above the fan in the low season and
+/// below it in the high season, whatever the plan. Falls back to the flat
+/// average when the baseline has no positive total.
+pub(crate) fn seasonal_target(total: f64, baseline: &[f64]) -> Vec<f64> {
+    let n = baseline.len();
+    if n == 0 {
+        return Vec::new();
+    }
+    let usable = baseline.iter().all(|v| v.is_finite() && *v >= 0.0);
+    let sum: f64 = baseline.iter().sum();
+    if !(usable && sum > 0.0) {
+        return vec![total / n as f64; n];
+    }
+    baseline.iter().map(|b| total * b / sum).collect()
+}
+
+/// The target by forecast month, in clicks (see [`seasonal_target`]).
+fn target_by_month(sm: &Summary) -> Vec<f64> {
+    match monthly_target(sm) {
+        Some((_, total, _)) => {
+            let base: Vec<f64> = sm.forecast.iter().map(|r| r.baseline_p50).collect();
+            seasonal_target(total, &base)
+        }
+        None => Vec::new(),
+    }
+}
+
 /// Actuals in clicks from tracking, as (month, value).
 fn actual_clicks(sm: &Summary) -> Vec<(String, f64)> {
     match &sm.tracking {
@@ -64,7 +95,7 @@ fn forecast_legend(sm: &Summary) -> Vec<Legend> {
     if monthly_target(sm).is_some() {
         l.push(Legend::new(
             Swatch::Line("s-target"),
-            "target (monthly average)",
+            "target, spread over the months like the baseline",
         ));
     }
     if !actual_clicks(sm).is_empty() {
@@ -86,7 +117,7 @@ fn forecast_max(sm: &Summary) -> f64 {
         .forecast
         .iter()
         .flat_map(|r| [r.baseline_p90, r.with_plan_p90, r.with_plan_p50]);
-    let t = monthly_target(sm).map(|t| t.0);
+    let t = target_by_month(sm);
     let a = actual_clicks(sm).into_iter().map(|a| a.1);
     h.chain(f)
         .chain(t)
@@ -190,13 +221,31 @@ fn forecast_refs(p: &mut Plot, sm: &Summary, first: Month) {
             &[],
         );
     }
-    if let Some((avg, total, h)) = monthly_target(sm) {
-        let label = format!(
-            "target: {} clicks a month on average ({} in {h} months)",
-            number(avg, 0),
-            number(total, 0)
+    if let Some((_, total, h)) = monthly_target(sm) {
+        // The target in the baseline's seasonal shape, month by month, so
+        // each month compares with its own fan (see `seasonal_target`).
+        let xs = positions(sm, first);
+        let pts: Vec<(f64, f64)> = xs.iter().copied().zip(target_by_month(sm)).collect();
+        p.line(
+            &pts,
+            "s-target",
+            &[
+                ("data-series", "target".into()),
+                ("data-total", data(total)),
+                ("data-months", h.to_string()),
+                (
+                    "data-values",
+                    pts.iter().map(|q| data(q.1)).collect::<Vec<_>>().join(" "),
+                ),
+            ],
         );
-        p.hline(avg, "s-target", &label, &[("data-value", data(avg))]);
+        if let Some(&(x, y)) = pts.last() {
+            let label = format!(
+                "target: {} clicks in {h} months, spread like the baseline",
+                number(total, 0)
+            );
+            p.label_at(x, y, &label);
+        }
     }
     for (m, v) in actual_clicks(sm) {
         if let Some(x) = month_pos(first, &m) {
@@ -250,9 +299,10 @@ fn forecast_desc(sm: &Summary) -> String {
             number(b.with_plan_p90, 0)
         );
     }
-    if let Some((avg, _, _)) = monthly_target(sm) {
+    if let Some((avg, total, h)) = monthly_target(sm) {
         d += &format!(
-            "; the target needs {} clicks a month on average",
+            "; the target of {} clicks in {h} months ({} a month on average) is drawn in the baseline's seasonal shape",
+            number(total, 0),
             number(avg, 0)
         );
     }
@@ -429,4 +479,32 @@ fn allocation_desc(cur: &str, clusters: &[ClusterSpend]) -> String {
         "Spend per cluster against the cost of all its tiers. {}.",
         parts.join("; ")
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_target_is_drawn_in_the_baseline_seasonal_shape_not_as_a_flat_average() {
+        // A seasonal baseline: high in the middle of the year.
+        let base = [
+            40.0, 45.0, 60.0, 70.0, 70.0, 60.0, 50.0, 45.0, 42.0, 44.0, 40.0, 40.0,
+        ];
+        let total = 720.0;
+        let t = seasonal_target(total, &base);
+        assert_eq!(t.len(), 12);
+        let sum: f64 = t.iter().sum();
+        assert!((sum - total).abs() < 1e-9, "sums to the target: {sum}");
+        // Not flat: the high season asks for more than the low season.
+        assert!(t[3] > t[0] * 1.5, "{t:?}");
+        // Each month's share of the target is the baseline's share.
+        let bsum: f64 = base.iter().sum();
+        for (v, b) in t.iter().zip(&base) {
+            assert!((v / total - b / bsum).abs() < 1e-12);
+        }
+        // No usable baseline: the flat average.
+        let flat = seasonal_target(120.0, &[0.0, 0.0, 0.0]);
+        assert!(flat.iter().all(|v| (v - 40.0).abs() < 1e-12));
+    }
 }

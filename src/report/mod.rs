@@ -31,7 +31,7 @@ use crate::output::{csv, json, num, Render, Rows};
 use crate::pipeline::{self, SimOptions, Simulated};
 use crate::simulate::summarise_futures;
 use crate::stats::quantiles;
-use crate::text::{int, money, pct};
+use crate::text::{int, money};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
 use std::path::{Path, PathBuf};
@@ -255,7 +255,7 @@ fn decision(
         money(a.budget_used, cur),
         money(a.expected_net_return, cur),
         a.expected_roi.map(|r| format!("{r:.2}")).unwrap_or_else(|| "n/a".into()),
-        pct(a.chance_of_loss, 0),
+        crate::text::chance(a.chance_of_loss, 0),
     );
     if let Some(t) = t {
         let unit = if t.metric == crate::target::Metric::Revenue {
@@ -266,9 +266,9 @@ fn decision(
         text += &format!(
             " Chance of reaching the target of {} {unit}: {} with this plan, {} doing nothing, {} with the best expected-return plan.",
             int(t.target),
-            pct(t.chosen.odds.chance, 0),
-            pct(t.do_nothing.odds.chance, 0),
-            pct(t.best.odds.chance, 0)
+            crate::text::chance(t.chosen.odds.chance, 0),
+            crate::text::chance(t.do_nothing.odds.chance, 0),
+            crate::text::chance(t.best.odds.chance, 0)
         );
     }
     text

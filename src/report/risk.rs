@@ -9,7 +9,7 @@
 //! 2000), losses being minus the net return, so the markers sit at minus
 //! those values on the net-return axis.
 
-use super::charts::{at_least, nice_ticks, Layout, Legend, Plot, Swatch};
+use super::charts::{at_least, nice_ticks, Layout, Legend, Plot, Swatch, Ticks};
 use super::svg::{data, money, number, shorten, Anchor, Shape};
 use super::Summary;
 use crate::allocate::{Allocation, FrontierPoint};
@@ -236,14 +236,18 @@ pub fn distribution(sm: &Summary) -> String {
         _ => return super::figures::empty("chart-distribution", DISTRIBUTION_TITLE, "no futures"),
     };
     let top = h.counts.iter().copied().max().unwrap_or(0) as f64;
-    let xt = nice_ticks(lo.min(-a.tail_loss).min(-a.value_at_risk), hi.max(0.0), 7);
+    let xt = return_axis(
+        (lo, hi),
+        (-a.tail_loss).min(-a.value_at_risk),
+        a.budget_used,
+    );
     // Headroom above the highest bar for the labels of the marker lines.
     let yt = nice_ticks(0.0, top * 1.3, 5);
     let legend = distribution_legend(&tail_share(a.tail_level));
     let mut p = Plot::new(Layout::default(), &legend, (xt.lo, xt.hi), (yt.lo, yt.hi));
     p.x_axis(&xt, &format!("net return over the horizon ({cur})"));
     p.y_axis(&yt, "futures (count)");
-    histogram_bars(&mut p, sm);
+    histogram_bars(&mut p, sm, xt.lo);
     risk_lines(&mut p, a, cur);
     p.finish(
         "chart-distribution",
@@ -296,7 +300,23 @@ fn risk_lines(p: &mut Plot, a: &Allocation, cur: &str) {
     }
 }
 
-fn histogram_bars(p: &mut Plot, sm: &Summary) {
+/// The net-return axis of the distribution chart: nice ticks over the
+/// binned data and the risk lines, but never below the largest possible
+/// loss, the whole spend (a net return cannot fall below minus the spend,
+/// and rounding the axis out to a nice tick could run far below it). The
+/// axis then starts at minus the spend, with the ticks inside it.
+fn return_axis(data: (f64, f64), risk: f64, spend: f64) -> Ticks {
+    let mut xt = nice_ticks(data.0.min(risk), data.1.max(0.0), 7);
+    let floor = -spend;
+    if spend.is_finite() && spend > 0.0 && xt.lo < floor && data.0.min(risk) >= floor - 1e-9 * spend
+    {
+        xt.lo = floor;
+        xt.values.retain(|&v| v >= floor - 1e-9 * spend);
+    }
+    xt
+}
+
+fn histogram_bars(p: &mut Plot, sm: &Summary, x_lo: f64) {
     let h = &sm.return_distribution;
     p.svg.open("histogram", &[]);
     for (w, &count) in h.edges.windows(2).zip(&h.counts) {
@@ -310,7 +330,9 @@ fn histogram_bars(p: &mut Plot, sm: &Summary) {
             ("data-hi", data(w[1])),
             ("data-count", count.to_string()),
         ];
-        p.bar((w[0], w[1]), (0.0, count as f64), class, &attrs);
+        // The first bin may start below the axis (bins start at a whole
+        // multiple of their width); it is drawn from the axis start.
+        p.bar((w[0].max(x_lo), w[1]), (0.0, count as f64), class, &attrs);
     }
     p.svg.close();
 }
@@ -434,4 +456,24 @@ fn tornado_desc(t: &DriverTable, rows: &[&Driver]) -> String {
         number(t.mean, 0),
         list.join("; ")
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_return_axis_does_not_run_below_the_largest_possible_loss() {
+        // Spend 12,235: no future loses more. Data from -12,100 would round
+        // out to a tick at -14,000 or below.
+        let spend = 12_235.0;
+        let xt = return_axis((-12_100.0, 30_500.0), -9_700.0, spend);
+        assert!(xt.lo >= -spend - 1e-6, "axis starts at {}", xt.lo);
+        assert!(xt.lo <= -12_100.0, "the data still fit: {}", xt.lo);
+        assert!(xt.values.iter().all(|&v| v >= xt.lo && v <= xt.hi));
+        assert!(xt.hi >= 30_500.0);
+        // Without a spend (nothing funded) the nice axis is kept.
+        let free = return_axis((-12_100.0, 30_500.0), -9_700.0, 0.0);
+        assert!(free.lo <= -12_100.0);
+    }
 }

@@ -14,8 +14,8 @@
 //! - `conversion_scale`: a plain rate `r` becomes `min(1, k r)`; a rate
 //!   from counts keeps its sessions and scales the conversions, so its
 //!   posterior mean `(k c + 1)/(n + 2)` moves by the same share up to
-//!   `(1 − k)/(n + 2)`. For a value per click (conversion rate 1) the value
-//!   is scaled instead.
+//!   `(1 − k)/(n + 2)`. For a value per click ([`ValueBasis::PerClick`],
+//!   never inferred from a rate of 1) the value is scaled instead.
 //! - `order_value_scale`: the order value's mean and spread.
 //! - `shock_probability`, `shock_log_loss`: replace the factors' values.
 //! - Baseline paths: multiplied by `[baseline] scale`, by default
@@ -26,7 +26,7 @@
 
 use super::{StressPreset, STRESS_DOMAIN};
 use crate::clicks::{
-    ConversionRate, Economics, ExplicitGain, GainDistribution, GainScale, OrderValue,
+    ConversionRate, Economics, ExplicitGain, GainDistribution, GainScale, OrderValue, ValueBasis,
 };
 use crate::rng::stream;
 use crate::simulate::model::TierGain;
@@ -90,11 +90,10 @@ fn scale_gains(model: &mut Model, c: usize, k: f64) {
 }
 
 fn scale_economics(e: &Economics, conversion: f64, order_value: f64) -> Economics {
-    let per_click = matches!(e.conversion_rate, ConversionRate::Fixed(r) if r == 1.0);
-    let (conv, ov) = if per_click {
-        (1.0, order_value * conversion)
-    } else {
-        (conversion, order_value)
+    let (conv, ov) = match e.basis {
+        // A value per click has no rate to lower: the value carries both.
+        ValueBasis::PerClick => (1.0, order_value * conversion),
+        ValueBasis::Orders => (conversion, order_value),
     };
     let conversion_rate = match e.conversion_rate {
         ConversionRate::Fixed(r) => ConversionRate::Fixed((r * conv).clamp(0.0, 1.0)),
@@ -113,6 +112,7 @@ fn scale_economics(e: &Economics, conversion: f64, order_value: f64) -> Economic
             sd: e.order_value.sd.map(|s| s * ov),
         },
         margin: e.margin,
+        basis: e.basis,
     }
 }
 
@@ -345,4 +345,45 @@ pub fn run_preset_from(
         baseline,
         simulated,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn orders(rate: f64) -> Economics {
+        Economics::new(
+            ConversionRate::fixed(rate).unwrap(),
+            OrderValue::new(100.0, Some(10.0)).unwrap(),
+            0.5,
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn a_conversion_rate_of_100_percent_is_a_rate_not_a_value_per_click() {
+        // Weaker conversion (k = 0.8) lowers a 100 % rate to 80 %, as it
+        // lowers any rate, and leaves the order value alone.
+        let e = scale_economics(&orders(1.0), 0.8, 1.0);
+        assert_eq!(e.basis, ValueBasis::Orders);
+        match e.conversion_rate {
+            ConversionRate::Fixed(r) => assert!((r - 0.8).abs() < 1e-12, "rate {r}"),
+            other => panic!("{other:?}"),
+        }
+        assert!((e.order_value.mean - 100.0).abs() < 1e-12);
+        assert_eq!(e.order_value.sd, Some(10.0));
+        // The same as for a rate of 50 %: both lose 20 % of their rate.
+        let half = scale_economics(&orders(0.5), 0.8, 1.0);
+        assert!((half.conversion_rate.mean() - 0.4).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_value_per_click_scales_the_value_under_weaker_conversion() {
+        let v = Economics::value_per_click(2.0, 0.5).unwrap();
+        assert_eq!(v.basis, ValueBasis::PerClick);
+        let e = scale_economics(&v, 0.8, 1.0);
+        assert_eq!(e.basis, ValueBasis::PerClick);
+        assert!((e.conversion_rate.mean() - 1.0).abs() < 1e-12);
+        assert!((e.order_value.mean - 1.6).abs() < 1e-12);
+    }
 }

@@ -31,7 +31,8 @@ pub use apply::{
 pub use mix::{mix_returns, MixedReturns};
 pub use preset::{BaselineChanges, ModelChanges, StressPreset};
 pub use results::{
-    cvar_of_losses, evaluate, portfolio_net, report, Case, ReportHead, StressReport, StressRow,
+    cvar_of_losses, evaluate, optimized_split, portfolio_net, report, Case, OptimizedSplit,
+    ReportHead, SplitRow, StressReport, StressRow,
 };
 
 use crate::target::TargetError;
@@ -83,7 +84,7 @@ impl From<StressError> for crate::Error {
                     message: e.to_string(),
                 }
             }
-            other => crate::Error::Setting(other.to_string()),
+            other => crate::Error::Stress(other),
         }
     }
 }

@@ -160,6 +160,130 @@ pub struct StressReport {
     pub target: Option<f64>,
     pub base: StressRow,
     pub presets: Vec<StressRow>,
+    /// With `--optimize-under`: the split allocated against the mix of base
+    /// and stressed futures, tier by tier beside the base allocation.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub optimized_under: Option<OptimizedSplit>,
+}
+
+/// One tier of the split chosen under a preset, beside the base allocation.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SplitRow {
+    /// The tier's id (`cluster / tier`).
+    pub id: String,
+    /// Funded fraction in the base allocation (0 to 1).
+    pub base_fraction: f64,
+    /// Funded fraction in the allocation optimized under the preset.
+    pub fraction: f64,
+    /// `fraction − base_fraction`.
+    pub difference: f64,
+    pub base_spend: f64,
+    pub spend: f64,
+}
+
+/// The allocation optimized against a mix of base and stressed futures,
+/// against the allocation optimized on the base futures alone.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OptimizedSplit {
+    /// The preset optimized under.
+    pub preset: String,
+    /// Probability on the stressed futures in the mix.
+    pub stress_weight: f64,
+    pub base_spend: f64,
+    pub spend: f64,
+    /// Every tier, in the plan's order.
+    pub tiers: Vec<SplitRow>,
+}
+
+/// The split of `chosen` (optimized under `preset` with `stress_weight`)
+/// against `base` (optimized on the base futures); both allocations list
+/// the same tiers in the same order (ids are matched, a tier missing from
+/// one counts as unfunded there).
+pub fn optimized_split(
+    preset: &str,
+    stress_weight: f64,
+    base: &crate::allocate::Allocation,
+    chosen: &crate::allocate::Allocation,
+) -> OptimizedSplit {
+    let tiers = chosen
+        .allocation
+        .iter()
+        .map(|c| {
+            let b = base.allocation.iter().find(|b| b.id == c.id);
+            let (bf, bs) = b.map(|b| (b.fraction, b.spend)).unwrap_or((0.0, 0.0));
+            SplitRow {
+                id: c.id.clone(),
+                base_fraction: bf,
+                fraction: c.fraction,
+                difference: c.fraction - bf,
+                base_spend: bs,
+                spend: c.spend,
+            }
+        })
+        .collect();
+    OptimizedSplit {
+        preset: preset.to_string(),
+        stress_weight,
+        base_spend: base.budget_used,
+        spend: chosen.budget_used,
+        tiers,
+    }
+}
+
+/// Differences of funded fractions below this are shown as no change.
+const SAME_FRACTION: f64 = 5e-4;
+
+impl OptimizedSplit {
+    /// The tiers funded in either allocation.
+    fn funded(&self) -> impl Iterator<Item = &SplitRow> {
+        self.tiers
+            .iter()
+            .filter(|r| r.fraction > SAME_FRACTION || r.base_fraction > SAME_FRACTION)
+    }
+
+    fn table(&self, cur: &str) -> String {
+        use crate::text::{money, pct, table, Align::*};
+        let change = |d: f64| {
+            if d.abs() < SAME_FRACTION {
+                "same".to_string()
+            } else if d > 0.0 {
+                format!("+{}", pct(d, 1))
+            } else {
+                pct(d, 1)
+            }
+        };
+        let rows: Vec<Vec<String>> = self
+            .funded()
+            .map(|r| {
+                vec![
+                    r.id.clone(),
+                    pct(r.base_fraction, 1),
+                    pct(r.fraction, 1),
+                    change(r.difference),
+                    money(r.spend - r.base_spend, cur),
+                ]
+            })
+            .collect();
+        let under = format!("under {}", self.preset);
+        let mut out = format!(
+            "\nSplit optimized under {} ({} of the probability on its futures), spend {} (base allocation {}):\n\n",
+            self.preset,
+            pct(self.stress_weight, 0),
+            money(self.spend, cur),
+            money(self.base_spend, cur)
+        );
+        if rows.is_empty() {
+            out += "Neither allocation funds any tier.\n";
+            return out;
+        }
+        out += &table(
+            &["tier", "base", &under, "change", "spend change"],
+            &[Left, Right, Right, Right, Right],
+            &rows,
+        );
+        out += "Shares are of each tier's cost; tiers funded in neither allocation are left out.\n";
+        out
+    }
 }
 
 /// Describes the allocation and fills each preset's changes against `base`.
@@ -191,6 +315,7 @@ pub fn report(head: &ReportHead, base: StressRow, mut presets: Vec<StressRow>) -
         target: head.target.map(|t| t.amount),
         base,
         presets,
+        optimized_under: None,
     }
 }
 
@@ -202,9 +327,12 @@ impl StressReport {
 
 impl crate::output::Render for StressReport {
     fn table(&self) -> String {
-        use crate::text::{int, money, pct, table, Align::*};
+        use crate::text::{int, money, table, Align::*};
         let cur = &self.currency;
-        let opt_pct = |v: Option<f64>| v.map(|x| pct(x, 0)).unwrap_or_else(|| "n/a".into());
+        let opt_pct = |v: Option<f64>| {
+            v.map(|x| crate::text::chance(x, 0))
+                .unwrap_or_else(|| "n/a".into())
+        };
         let signed = |v: f64| {
             if v > 0.0 {
                 format!("+{}", money(v, cur))
@@ -258,6 +386,9 @@ impl crate::output::Render for StressReport {
             }
             out.push('\n');
         }
+        if let Some(split) = &self.optimized_under {
+            out += &split.table(cur);
+        }
         out
     }
 
@@ -279,7 +410,7 @@ impl crate::output::Render for StressReport {
         ]
         .map(String::from)
         .to_vec();
-        let rows = self
+        let mut rows: Vec<Vec<String>> = self
             .all()
             .map(|r| {
                 vec![
@@ -298,6 +429,39 @@ impl crate::output::Render for StressReport {
                 ]
             })
             .collect();
+        let mut header = header;
+        if let Some(split) = &self.optimized_under {
+            // One more row per tier, case "split", with the tier's base and
+            // optimized-under fractions in columns of their own.
+            let width = header.len();
+            header.extend(
+                [
+                    "tier",
+                    "base_fraction",
+                    "fraction_under_preset",
+                    "fraction_difference",
+                    "base_spend",
+                    "spend_under_preset",
+                ]
+                .map(String::from),
+            );
+            for r in &mut rows {
+                r.resize(header.len(), String::new());
+            }
+            for t in &split.tiers {
+                let mut row = vec![format!("split under {}", split.preset)];
+                row.resize(width, String::new());
+                row.extend([
+                    t.id.clone(),
+                    num(t.base_fraction),
+                    num(t.fraction),
+                    num(t.difference),
+                    num(t.base_spend),
+                    num(t.spend),
+                ]);
+                rows.push(row);
+            }
+        }
         crate::output::Rows { header, rows }
     }
 }

@@ -55,12 +55,6 @@ pub enum TargetError {
     },
 }
 
-impl From<TargetError> for crate::Error {
-    fn from(e: TargetError) -> Self {
-        crate::Error::Setting(e.to_string())
-    }
-}
-
 /// What the target counts.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "lowercase")]

@@ -188,7 +188,7 @@ fn opt_text(v: Option<f64>, f: impl Fn(f64) -> String) -> String {
 
 impl crate::output::Render for TargetReport {
     fn table(&self) -> String {
-        use crate::text::{int, money, pct, table, Align::*};
+        use crate::text::{int, money, table, Align::*};
         let cols = self.columns();
         let row = |label: &str, f: &dyn Fn(&PlanOdds) -> String| {
             let mut r = vec![label.to_string()];
@@ -197,7 +197,9 @@ impl crate::output::Render for TargetReport {
         };
         let rows = vec![
             row("spend", &|c| money(c.spend, &self.currency)),
-            row("chance of reaching the target", &|c| pct(c.odds.chance, 0)),
+            row("chance of reaching the target", &|c| {
+                crate::text::chance(c.odds.chance, 0)
+            }),
             row("total, mean", &|c| self.amount(c.odds.total.mean)),
             row("total, P10", &|c| self.amount(c.odds.total.p10)),
             row("total, P90", &|c| self.amount(c.odds.total.p90)),

@@ -27,9 +27,3 @@ pub enum TrackError {
     #[error("{what}: {message}")]
     Argument { what: String, message: String },
 }
-
-impl From<TrackError> for crate::Error {
-    fn from(e: TrackError) -> Self {
-        crate::Error::Setting(e.to_string())
-    }
-}
