@@ -272,32 +272,71 @@ fn distribution_legend(share: &str) -> [Legend; 5] {
 /// The mean, VaR and CVaR as labelled vertical lines on the net-return
 /// axis (the risk figures are losses, so they sit at minus their value).
 fn risk_lines(p: &mut Plot, a: &Allocation, cur: &str) {
-    let share = tail_share(a.tail_level);
+    // Short labels (the legend says what each line is), so that each can
+    // find room beside its line without crossing the others.
     let (mean, var, cvar) = (a.expected_net_return, -a.value_at_risk, -a.tail_loss);
     let marks = [
         (
             mean,
             "s-mean",
-            format!("expected {}", money(mean, cur)),
+            format!("mean {}", money(mean, cur)),
             Anchor::Start,
         ),
         (
             var,
             "s-var",
-            format!("VaR: {share} of futures at or below {}", money(var, cur)),
+            format!("VaR {}", money(var, cur)),
             Anchor::Start,
         ),
         (
             cvar,
             "s-cvar",
-            format!("CVaR: the worst {share} average {}", money(cvar, cur)),
+            format!("CVaR {}", money(cvar, cur)),
             Anchor::End,
         ),
     ];
-    for (row, (x, class, label, side)) in marks.iter().enumerate() {
+    let pxs: Vec<f64> = marks.iter().map(|m| p.x.at(m.0)).collect();
+    let widths: Vec<f64> = marks
+        .iter()
+        .map(|m| super::svg::text_width(&m.2, 11.5))
+        .collect();
+    let prefer: Vec<Anchor> = marks.iter().map(|m| m.3).collect();
+    let sides = label_sides(&pxs, &widths, &prefer, (p.area.left, p.area.right));
+    for (row, ((x, class, label, _), side)) in marks.iter().zip(sides).enumerate() {
         let attrs = [("data-value", data(*x))];
-        p.vline(*x, class, (label, row), Some(*side), &attrs);
+        p.vline(*x, class, (label, row), Some(side), &attrs);
     }
+}
+
+/// The side of its line each marker label goes on: one that fits in the
+/// plotting area (`bounds`) and that crosses as few of the other marker
+/// lines as possible, the preferred side on a tie, so a label is not
+/// struck through by a neighbouring line. `End` is left of the line.
+fn label_sides(pxs: &[f64], widths: &[f64], prefer: &[Anchor], bounds: (f64, f64)) -> Vec<Anchor> {
+    let crossings = |i: usize, span: (f64, f64)| {
+        pxs.iter()
+            .enumerate()
+            .filter(|&(j, &x)| j != i && x >= span.0 && x <= span.1)
+            .count()
+    };
+    (0..pxs.len())
+        .map(|i| {
+            let (px, w) = (pxs[i], widths[i]);
+            let right = (px + 4.0, px + 4.0 + w);
+            let left = (px - 4.0 - w, px - 4.0);
+            let score = |span: (f64, f64)| {
+                let outside = span.0 < bounds.0 || span.1 > bounds.1;
+                (outside, crossings(i, span))
+            };
+            let (r, l) = (score(right), score(left));
+            match prefer[i] {
+                Anchor::End if l <= r => Anchor::End,
+                Anchor::End => Anchor::Start,
+                _ if r <= l => Anchor::Start,
+                _ => Anchor::End,
+            }
+        })
+        .collect()
 }
 
 /// The net-return axis of the distribution chart: nice ticks over the
@@ -461,6 +500,54 @@ fn tornado_desc(t: &DriverTable, rows: &[&Driver]) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn marker_labels_avoid_crossing_the_other_marker_lines() {
+        // CVaR at 100, VaR at 130, mean at 400 px on an 80..900 area; each
+        // label 250 px wide. The CVaR label prefers the left but does not
+        // fit there, and on the right it would cross the VaR line; the VaR
+        // label on the right would cross the mean's line.
+        let pxs = [400.0, 130.0, 100.0];
+        let widths = [150.0, 250.0, 250.0];
+        let prefer = [Anchor::Start, Anchor::Start, Anchor::End];
+        let sides = label_sides(&pxs, &widths, &prefer, (80.0, 900.0));
+        let span = |i: usize| match sides[i] {
+            Anchor::End => (pxs[i] - 4.0 - widths[i], pxs[i] - 4.0),
+            _ => (pxs[i] + 4.0, pxs[i] + 4.0 + widths[i]),
+        };
+        for i in 0..3 {
+            let (a, b) = span(i);
+            assert!(
+                a >= 80.0 && b <= 900.0,
+                "label {i} leaves the area: {a}..{b}"
+            );
+        }
+        // The mean's label has room on its right and crosses nothing.
+        assert!(matches!(sides[0], Anchor::Start));
+        // Neither the VaR nor the CVaR label can avoid every line here (no
+        // room on the left); each crosses at most one other line.
+        for i in 1..3 {
+            let (a, b) = span(i);
+            let crossed = pxs
+                .iter()
+                .enumerate()
+                .filter(|&(j, &x)| j != i && x >= a && x <= b)
+                .count();
+            assert!(crossed <= 1, "label {i} crosses {crossed} lines");
+        }
+        // With room on the left, a label goes where it crosses nothing.
+        let sides = label_sides(
+            &[600.0, 700.0],
+            &[120.0, 120.0],
+            &[Anchor::Start, Anchor::Start],
+            (0.0, 900.0),
+        );
+        assert!(
+            matches!(sides[0], Anchor::End),
+            "the first label would cross the second line on the right"
+        );
+        assert!(matches!(sides[1], Anchor::Start));
+    }
 
     #[test]
     fn the_return_axis_does_not_run_below_the_largest_possible_loss() {
