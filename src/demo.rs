@@ -499,6 +499,9 @@ dir = "../models"
 ctr = "default"
 branded_ctr = "branded"
 rank_gain = "default"
+# Queries matching this pattern are left out when the click-through curve is
+# fitted to the query export.
+brand = "quillfern"
 
 [baseline]
 method = "auto"

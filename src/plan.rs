@@ -72,6 +72,12 @@ pub struct ModelsCfg {
     pub rank_gain: Option<String>,
     /// Stress presets to run in the report (names in `stress/`).
     pub stress: Option<Vec<String>>,
+    /// Case-insensitive pattern of the site's brand: queries of the query
+    /// export that match it are left out when the curve is fitted.
+    pub brand: Option<String>,
+    /// Fit the click-through curve to `[inputs] queries` (default true when
+    /// a query export is given); false keeps the `ctr` curve as named.
+    pub fit_ctr: Option<bool>,
 }
 
 /// `[baseline]`: how the no-new-work forecast is made.
@@ -106,6 +112,9 @@ pub struct EconomicsCfg {
     pub gross_margin: Option<Spanned<f64>>,
     pub value_per_click: Option<Spanned<f64>>,
     pub seasonality: Option<SeasonalityCfg>,
+    /// Derive the conversion rate and order value (or the value per click)
+    /// from the last 12 months of the history instead of the keys above.
+    pub from_history: Option<bool>,
 }
 
 /// `[target]`: what the business wants over the horizon.

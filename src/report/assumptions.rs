@@ -18,6 +18,7 @@ pub fn assumptions(sm: &Summary) -> String {
         .map(|(what, origin)| vec![what.clone(), origin.clone()])
         .collect();
     let mut s = table("Model files used", &["model", "origin"], &models);
+    s += &click_through_facts(sm);
     s += &baseline_facts(sm);
     s += &economics_facts(sm);
     s += &risk_facts(sm);
@@ -55,6 +56,36 @@ fn parameter_rows(params: &BTreeMap<String, f64>) -> Vec<Vec<String>> {
         rows.push(vec![format!("{f}_{first} to {f}_{last}"), list.join(", ")]);
     }
     rows
+}
+
+/// The click-through curve fitted to the plan's query export, or why the
+/// named curve was kept, with the errors that decided it.
+fn click_through_facts(sm: &Summary) -> String {
+    let Some(c) = &sm.click_through else {
+        return String::new();
+    };
+    let err = |x: Option<f64>| x.map_or_else(|| "n/a".to_string(), |v| pct(v, 2));
+    let key = [
+        kv(
+            "curve used",
+            if c.fitted {
+                "fitted to the query export".to_string()
+            } else {
+                "the named curve".to_string()
+            },
+        ),
+        kv("query export", c.queries.clone()),
+        kv("fit", c.fit.clone().unwrap_or_else(|| "none".into())),
+        kv("fit error (cross-validated RMSE)", err(c.fit_cv_rmse)),
+        kv(
+            "named curve's error (same positions)",
+            err(c.named_curve_rmse),
+        ),
+        kv("CTR at position 1", pct(c.ctr_at_1, 1)),
+    ];
+    "<h3>Click-through curve</h3>\n".to_string()
+        + &figures_list(&key)
+        + &para(&format!("{}.", c.reason))
 }
 
 fn baseline_facts(sm: &Summary) -> String {
