@@ -704,8 +704,9 @@ impl Plan {
         let file = self.path.display().to_string();
         let has_rate =
             e.conversion_rate.is_some() || (e.conversions.is_some() && e.sessions.is_some());
-        if e.value_per_click.is_none() && (!has_rate || e.order_value.is_none()) {
-            issues.add(&file, None, Some(("economics", 0)), "[economics] needs a conversion rate (conversion_rate, or conversions and sessions) and an order_value, or a value_per_click");
+        let from_history = e.from_history == Some(true);
+        if !from_history && e.value_per_click.is_none() && (!has_rate || e.order_value.is_none()) {
+            issues.add(&file, None, Some(("economics", 0)), "[economics] needs a conversion rate (conversion_rate, or conversions and sessions) and an order_value, or a value_per_click, or from_history = true");
         }
         if let Some(SeasonalityCfg::Indices(v)) = &e.seasonality {
             if v.len() != 12 || v.iter().any(|x| !x.is_finite() || *x <= 0.0) {

@@ -141,13 +141,38 @@ fn economics_facts(sm: &Summary) -> String {
         None => money(e.order_value.mean, cur),
     };
     let per_click = format!("{cur} {}", number(rate * e.order_value.mean, 2));
-    let key = [
+    let mut key = vec![
         kv("conversion rate", conv),
         kv("average order value", ov),
         kv("gross margin", pct(e.margin, 0)),
         kv("revenue per click (at the means)", per_click),
     ];
-    "<h3>Economics</h3>\n".to_string() + &figures_list(&key)
+    let history = sm.check.revenue_per_click.map(|r| {
+        let text = format!(
+            "{cur} {} (last {} months; the plan's is {} {})",
+            number(r.history, 2),
+            r.months,
+            pct(r.difference.abs(), 0),
+            if r.difference >= 0.0 {
+                "higher"
+            } else {
+                "lower"
+            }
+        );
+        (r, text)
+    });
+    if let Some((_, text)) = &history {
+        key.push(kv("revenue per click in the history", text.clone()));
+    }
+    let mut s = "<h3>Economics</h3>\n".to_string() + &figures_list(&key);
+    if let Some((r, _)) = history.filter(|(r, _)| r.differs()) {
+        s += &para(&format!(
+            "The plan's revenue per click differs from the history's by more than {}: {}.",
+            pct(r.tolerance, 0),
+            r.warning(cur)
+        ));
+    }
+    s
 }
 
 fn risk_facts(sm: &Summary) -> String {

@@ -341,6 +341,9 @@ pub fn economics(inputs: &Inputs) -> Result<Economics> {
     let plan_file = inputs.plan.path.display().to_string();
     let v = |x: &Option<toml::Spanned<f64>>| x.as_ref().map(|s| *s.get_ref());
     let margin = v(&e.gross_margin).unwrap_or(1.0);
+    if e.from_history == Some(true) {
+        return economics_from_history(inputs, margin, v(&e.order_value_spread));
+    }
     let built = if let Some(vpc) = v(&e.value_per_click) {
         Economics::value_per_click(vpc, margin)
     } else {
@@ -360,6 +363,66 @@ pub fn economics(inputs: &Inputs) -> Result<Economics> {
             .and_then(|ov| Economics::new(rate, ov, margin))
     };
     built.map_err(plan_err(&plan_file, "economics"))
+}
+
+/// `[economics] from_history = true`: the conversion rate and order value
+/// (or the value per click) from the history's last 12 months; see
+/// [`Economics::from_history`]. The keys it replaces must not be given too.
+fn economics_from_history(inputs: &Inputs, margin: f64, spread: Option<f64>) -> Result<Economics> {
+    let e = &inputs.plan.file.economics;
+    let plan_file = inputs.plan.path.display().to_string();
+    let given: Vec<&str> = [
+        ("conversion_rate", e.conversion_rate.is_some()),
+        ("conversions", e.conversions.is_some()),
+        ("sessions", e.sessions.is_some()),
+        ("order_value", e.order_value.is_some()),
+        ("value_per_click", e.value_per_click.is_some()),
+    ]
+    .iter()
+    .filter(|k| k.1)
+    .map(|k| k.0)
+    .collect();
+    if !given.is_empty() {
+        return Err(Error::input(
+            &plan_file,
+            None,
+            Some(("economics.from_history", 0)),
+            &format!(
+                "from_history = true derives the economics from the history; remove {} from [economics] or set from_history = false",
+                given.join(", ")
+            ),
+        ));
+    }
+    let t = crate::check::history_totals(inputs);
+    let history = inputs
+        .files
+        .iter()
+        .find(|(label, _)| label == "history")
+        .map(|(_, p)| p.display().to_string())
+        .unwrap_or_else(|| "the history".to_string());
+    if t.months < 12 {
+        return Err(Error::input(
+            &plan_file,
+            None,
+            Some(("economics.from_history", 0)),
+            &format!(
+                "from_history = true needs 12 months of history, {history} has {}",
+                t.months
+            ),
+        ));
+    }
+    let Some(revenue) = t.revenue else {
+        return Err(Error::input(
+            &plan_file,
+            None,
+            Some(("economics.from_history", 0)),
+            &format!(
+                "from_history = true needs a revenue column with a value in each of the last 12 months of {history}"
+            ),
+        ));
+    };
+    Economics::from_history(t.clicks, t.sessions, t.conversions, revenue, spread, margin)
+        .map_err(plan_err(&plan_file, "economics.from_history"))
 }
 
 fn seasonality(inputs: &Inputs) -> Result<Seasonality> {
