@@ -260,7 +260,7 @@ impl Economics {
                 margin,
             ),
             _ => {
-                if !(clicks > 0.0) {
+                if clicks.is_nan() || clicks <= 0.0 {
                     return Err(invalid(
                         "economics",
                         "from_history",
