@@ -48,6 +48,103 @@ pub struct Summary {
     /// format). Kept out of the report's JSON, which predates it.
     #[serde(skip)]
     pub numbers: Vec<(String, String, crate::inputs::number::NumberFormat)>,
+    /// The history's revenue per click beside the plan's (when the history
+    /// has revenue).
+    pub revenue_per_click: Option<RevenuePerClick>,
+}
+
+/// Share by which the plan's revenue per click may differ from the
+/// history's before `check` warns: 25 % (common practice, no source).
+pub const REVENUE_PER_CLICK_TOLERANCE: f64 = 0.25;
+
+/// Totals of the last (up to) 12 months of the history.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct HistoryTotals {
+    /// Months summed (12, or fewer in a shorter history).
+    pub months: usize,
+    pub clicks: f64,
+    /// None when the column is absent or has a blank in the window.
+    pub sessions: Option<f64>,
+    pub conversions: Option<f64>,
+    pub revenue: Option<f64>,
+}
+
+/// Sums the last 12 months of the history's clicks, sessions, conversions
+/// and revenue.
+pub fn history_totals(inp: &Inputs) -> HistoryTotals {
+    let sum = |name: &str| -> Option<f64> {
+        let v = inp.history.get(name)?;
+        let tail = &v[v.len().saturating_sub(12)..];
+        if tail.is_empty() || tail.iter().any(|x| !x.is_finite()) {
+            return None;
+        }
+        Some(tail.iter().sum())
+    };
+    HistoryTotals {
+        months: inp.history.len().min(12),
+        clicks: sum("clicks").unwrap_or(0.0),
+        sessions: sum("sessions"),
+        conversions: sum("conversions"),
+        revenue: sum("revenue"),
+    }
+}
+
+/// The history's revenue per click against the one the plan's economics
+/// imply (conversion rate times order value, at their means).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct RevenuePerClick {
+    /// Months of history compared (the last 12, or fewer).
+    pub months: usize,
+    /// Revenue over clicks in those months.
+    pub history: f64,
+    /// Conversion rate times order value of the plan (at the means).
+    pub plan: f64,
+    /// `plan / history - 1`.
+    pub difference: f64,
+    /// Warn beyond this share.
+    pub tolerance: f64,
+}
+
+impl RevenuePerClick {
+    /// True when the two differ by more than the tolerance.
+    pub fn differs(&self) -> bool {
+        self.difference.abs() > self.tolerance
+    }
+
+    /// The warning `check` prints when they differ.
+    pub fn warning(&self, currency: &str) -> String {
+        format!(
+            "the plan's economics imply {} of revenue per click, the history's last {} months {} ({} {}): check conversion_rate and order_value in [economics], or set from_history = true there to use the history's",
+            per_click(self.plan, currency),
+            self.months,
+            per_click(self.history, currency),
+            if self.difference > 0.0 { "the plan is higher by" } else { "the plan is lower by" },
+            pct(self.difference.abs(), 0),
+        )
+    }
+}
+
+/// Compares the history's revenue per click with the plan's, when the
+/// history has revenue and the plan's economics can be read.
+pub fn revenue_per_click(inp: &Inputs) -> Option<RevenuePerClick> {
+    let t = history_totals(inp);
+    let revenue = t.revenue?;
+    if t.clicks <= 0.0 {
+        return None;
+    }
+    let e = crate::simulate::model::economics(inp).ok()?;
+    let plan = e.conversion_rate.mean() * e.order_value.mean;
+    let history = revenue / t.clicks;
+    if !(history > 0.0 && plan.is_finite()) {
+        return None;
+    }
+    Some(RevenuePerClick {
+        months: t.months,
+        history,
+        plan,
+        difference: plan / history - 1.0,
+        tolerance: REVENUE_PER_CLICK_TOLERANCE,
+    })
 }
 
 /// Reads every model file the plan uses (click-through curves, rank-gain
@@ -82,6 +179,11 @@ pub fn summarise(inp: &Inputs) -> Summary {
     };
     let clicks = inp.history.get("clicks").unwrap_or(&[]);
     let last12: f64 = clicks.iter().rev().take(12).sum();
+    let rpc = revenue_per_click(inp);
+    let mut warnings = inp.warnings.clone();
+    if let Some(r) = rpc.filter(RevenuePerClick::differs) {
+        warnings.push(r.warning(&inp.plan.currency));
+    }
     Summary {
         plan: inp.plan.name.clone(),
         history_months: inp.history.len(),
@@ -110,8 +212,9 @@ pub fn summarise(inp: &Inputs) -> Summary {
         tail_level: inp.plan.tail_level,
         max_tail_loss: inp.plan.max_tail_loss,
         clusters: cluster_summaries(inp),
-        warnings: inp.warnings.clone(),
+        warnings,
         numbers: inp.numbers.clone(),
+        revenue_per_click: rpc,
     }
 }
 
@@ -166,6 +269,7 @@ pub fn render(s: &Summary) -> String {
         pct(s.not_ranking_share, 1),
         pct(s.branded_share, 1)
     );
+    out += &revenue_line(s);
     out += &format!("Forecast: {} to {}\n", s.forecast_first, s.forecast_last);
     let limit = s
         .max_tail_loss
@@ -201,6 +305,30 @@ pub fn render_numbers(s: &Summary) -> String {
         out += &format!("  {key}, {file}: {format}\n");
     }
     out
+}
+
+/// An amount per click, to the cent: `EUR 2.40`.
+fn per_click(v: f64, currency: &str) -> String {
+    if !v.is_finite() {
+        return "n/a".into();
+    }
+    format!("{currency} {}", crate::text::number(v, 2))
+}
+
+/// The history's revenue per click beside the plan's, when known.
+fn revenue_line(s: &Summary) -> String {
+    let Some(r) = &s.revenue_per_click else {
+        return String::new();
+    };
+    format!(
+        "Revenue per click: history {} (last {} months), plan's economics {} ({}{}; warn beyond {})\n",
+        per_click(r.history, &s.currency),
+        r.months,
+        per_click(r.plan, &s.currency),
+        if r.difference >= 0.0 { "+" } else { "-" },
+        pct(r.difference.abs(), 0),
+        pct(r.tolerance, 0)
+    )
 }
 
 fn cluster_table(s: &Summary) -> String {

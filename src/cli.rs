@@ -314,10 +314,17 @@ enum Command {
         #[command(subcommand)]
         action: CtrAction,
     },
-    /// Central estimate per cluster and tier, with no randomness.
+    /// Median case per cluster and tier (every factor at its median), beside the mean over a
+    /// small seeded simulation.
     Estimate {
         /// The plan file (TOML).
         plan: PathBuf,
+        /// Simulated futures behind the mean-over-futures column (default 1000; 0 leaves it out).
+        #[arg(long)]
+        scenarios: Option<usize>,
+        /// Seed of the simulation (default: the plan's).
+        #[arg(long)]
+        seed: Option<u64>,
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
     },
@@ -640,10 +647,39 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 out(&format!("Curve written to {}\n", p.display()))?;
             }
         }
-        Command::Estimate { plan, format } => {
-            let inputs = furrow::inputs::load::load(&plan, &Overrides::default())?;
+        Command::Estimate {
+            plan,
+            scenarios,
+            seed,
+            format,
+        } => {
+            let futures = scenarios.unwrap_or(furrow::estimate::DEFAULT_FUTURES);
+            // The count is checked like `simulate --scenarios` (0 is allowed
+            // and leaves the simulation out).
+            let o = Overrides {
+                seed,
+                scenarios: (futures > 0).then_some(futures),
+                ..Overrides::default()
+            };
+            let inputs = furrow::inputs::load::load(&plan, &o)?;
             let model = furrow::simulate::prepare(&inputs)?;
-            let est = furrow::estimate::estimate(&model, &inputs.plan.currency);
+            let mut est = furrow::estimate::estimate(&model, &inputs.plan.currency);
+            if futures > 0 {
+                let opts = furrow::simulate::RunOptions {
+                    scenarios: inputs.plan.scenarios,
+                    seed: inputs.plan.seed,
+                    max_memory: memory_limit(None),
+                    progress: None,
+                };
+                let f = furrow::simulate::run(&model, &opts)?;
+                let sim = furrow::simulate::summarise_futures(
+                    &model,
+                    &f,
+                    inputs.plan.seed,
+                    &inputs.plan.currency,
+                );
+                furrow::estimate::attach_futures(&mut est, &sim);
+            }
             out(&furrow::output::render(&est, format.into())?)?;
         }
         Command::Simulate {

@@ -1,5 +1,14 @@
 //! `furrow estimate`: the central estimate with no randomness, the
-//! single-number version a spreadsheet gives.
+//! single-number version a spreadsheet gives, beside the mean over a modest
+//! seeded Monte Carlo of the same model.
+//!
+//! The two answer different questions and may even differ in sign: the
+//! "median case" sets every factor at its centre, while the "mean over
+//! futures" averages the money over futures whose gains are skewed (most
+//! keywords gain little, a few gain a lot), so the mean sits above the
+//! median case when the upside is long. `simulate` shows the mean over
+//! futures; [`attach_futures`] takes the same simulation summary, so for the
+//! same seed and number of futures the two commands print the same mean.
 //!
 //! Every keyword gets its median log-position gain (no keyword luck, cluster
 //! execution as planned), weighted by its chance of gaining anything; explicit
@@ -48,6 +57,38 @@ pub struct EstimateRow {
     pub marginal: Figures,
     /// Funding the cluster up to and including this tier.
     pub cumulative: Figures,
+    /// What this tier adds, averaged over the simulated futures (none when
+    /// no simulation was attached).
+    pub mean_over_futures: Option<MeanOverFutures>,
+}
+
+/// A tier's marginal figures averaged over simulated futures.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct MeanOverFutures {
+    pub clicks: f64,
+    pub revenue: f64,
+    pub gross_profit: f64,
+    pub net_return: f64,
+    /// Share of futures where the tier's net return is negative.
+    pub chance_of_loss: f64,
+}
+
+/// What the two kinds of figure are, stated in every output.
+pub const MEDIAN_CASE: &str = "median case: every factor at its median (median gain per keyword weighted by its chance of gaining, site factors at their means)";
+/// See [`MEDIAN_CASE`].
+pub const MEAN_OVER_FUTURES: &str = "mean over futures: the average over simulated futures, as `simulate` prints it; above the median case when gains are skewed to the upside";
+
+/// Futures `estimate` simulates unless told otherwise: enough for a mean
+/// within a few percent on the demo, quick to run (common practice, no
+/// source).
+pub const DEFAULT_FUTURES: usize = 1_000;
+
+/// The simulation behind the mean-over-futures figures.
+#[derive(Debug, Clone, Serialize)]
+pub struct FuturesInfo {
+    pub futures: usize,
+    pub seed: u64,
+    pub label: String,
 }
 
 /// The estimate for every tier.
@@ -58,7 +99,34 @@ pub struct Estimate {
     pub conversion_rate: f64,
     pub order_value: f64,
     pub gross_margin: f64,
+    /// What the row figures (`clicks`, `net_return`, ...) are.
+    pub median_case: String,
+    /// The simulation behind `mean_over_futures`, when one was run.
+    pub mean_over_futures: Option<FuturesInfo>,
     pub rows: Vec<EstimateRow>,
+}
+
+/// Adds each tier's mean over the simulated futures from `simulate`'s own
+/// summary of them.
+pub fn attach_futures(est: &mut Estimate, sim: &crate::simulate::SimSummary) {
+    for (row, t) in est.rows.iter_mut().zip(&sim.tiers) {
+        if row.id != t.id {
+            continue;
+        }
+        let m = &t.marginal;
+        row.mean_over_futures = Some(MeanOverFutures {
+            clicks: m.clicks.mean,
+            revenue: m.revenue.mean,
+            gross_profit: m.gross_profit.mean,
+            net_return: m.net_return.mean,
+            chance_of_loss: m.chance_of_loss,
+        });
+    }
+    est.mean_over_futures = Some(FuturesInfo {
+        futures: sim.scenarios,
+        seed: sim.seed,
+        label: MEAN_OVER_FUTURES.to_string(),
+    });
 }
 
 /// The central draws: median gain, gains for sure (weighted later), median timing.
@@ -154,6 +222,7 @@ pub fn estimate(model: &Model, currency: &str) -> Estimate {
                 label: cl.tiers[t].label.clone(),
                 marginal: figures(monthly.iter().sum(), cost, rate, aov, margin),
                 cumulative: figures(cum_total, cum_cost, rate, aov, margin),
+                mean_over_futures: None,
                 monthly_clicks: monthly,
             });
         }
@@ -164,6 +233,8 @@ pub fn estimate(model: &Model, currency: &str) -> Estimate {
         conversion_rate: rate,
         order_value: aov,
         gross_margin: margin,
+        median_case: MEDIAN_CASE.to_string(),
+        mean_over_futures: None,
         rows,
     }
 }
@@ -173,13 +244,21 @@ impl crate::output::Render for Estimate {
         use crate::text::{int, money, pct, ratio, table, Align::*};
         let cur = &self.currency;
         let mut out = format!(
-            "Central estimate, {} to {} (median gain per keyword weighted by its chance of gaining; conversion rate {}, order value {}, gross margin {})\n\n",
+            "Estimate, {} to {}: median case (every factor at its median; median gain per keyword weighted by its chance of gaining; conversion rate {}, order value {}, gross margin {})\n",
             self.months.first().map(String::as_str).unwrap_or(""),
             self.months.last().map(String::as_str).unwrap_or(""),
             pct(self.conversion_rate, 2),
             money(self.order_value, cur),
             pct(self.gross_margin, 0)
         );
+        out += &match &self.mean_over_futures {
+            Some(f) => format!(
+                "beside the mean over {} simulated futures (seed {}), as `simulate` prints it.\n\n",
+                int(f.futures as f64),
+                f.seed
+            ),
+            None => "\n".to_string(),
+        };
         let rows: Vec<Vec<String>> = self
             .rows
             .iter()
@@ -192,9 +271,9 @@ impl crate::output::Render for Estimate {
                     money(m.cost, cur),
                     int(m.clicks),
                     money(m.revenue, cur),
-                    money(m.gross_profit, cur),
                     money(m.net_return, cur),
-                    ratio(m.return_on_spend),
+                    r.mean_over_futures
+                        .map_or_else(|| "-".to_string(), |f| money(f.net_return, cur)),
                     ratio(m.roi),
                     ratio(r.cumulative.roi),
                 ]
@@ -208,18 +287,17 @@ impl crate::output::Render for Estimate {
                 "cost",
                 "clicks",
                 "revenue",
-                "gross profit",
-                "net return",
-                "return on spend",
+                "net, median case",
+                "net, mean over futures",
                 "ROI",
                 "ROI to this tier",
             ],
             &[
-                Left, Right, Left, Right, Right, Right, Right, Right, Right, Right, Right,
+                Left, Right, Left, Right, Right, Right, Right, Right, Right, Right,
             ],
             &rows,
         );
-        out += "\nEach row is what the tier adds over the tier below, over the horizon. Return on spend = incremental revenue / cost; ROI = (incremental gross profit - cost) / cost.\n";
+        out += "\nEach row is what the tier adds over the tier below, over the horizon; clicks, revenue and ROI are the median case (gross profit and return on spend are in the CSV and JSON). ROI = (incremental gross profit - cost) / cost.\nThe median case sets every factor at its median; the mean over futures averages skewed futures (most keywords gain little, a few gain a lot), so the two can differ, even in sign.\n";
         out
     }
 
@@ -243,6 +321,8 @@ impl crate::output::Render for Estimate {
             "cumulative_revenue",
             "cumulative_gross_profit",
             "cumulative_roi",
+            "mean_over_futures_clicks",
+            "mean_over_futures_net_return",
         ]
         .iter()
         .map(|s| s.to_string())
@@ -271,6 +351,8 @@ impl crate::output::Render for Estimate {
                     num(c.revenue),
                     num(c.gross_profit),
                     opt(c.roi),
+                    opt(r.mean_over_futures.map(|f| f.clicks)),
+                    opt(r.mean_over_futures.map(|f| f.net_return)),
                 ];
                 v.extend(r.monthly_clicks.iter().map(|x| num(*x)));
                 v

@@ -111,6 +111,12 @@ pub struct ModelsCfg {
     pub rank_gain: Option<String>,
     /// Stress presets to run in the report (names in `stress/`).
     pub stress: Option<Vec<String>>,
+    /// Case-insensitive pattern of the site's brand: queries of the query
+    /// export that match it are left out when the curve is fitted.
+    pub brand: Option<String>,
+    /// Fit the click-through curve to `[inputs] queries` (default true when
+    /// a query export is given); false keeps the `ctr` curve as named.
+    pub fit_ctr: Option<bool>,
 }
 
 /// `[baseline]`: how the no-new-work forecast is made.
@@ -145,6 +151,9 @@ pub struct EconomicsCfg {
     pub gross_margin: Option<Spanned<f64>>,
     pub value_per_click: Option<Spanned<f64>>,
     pub seasonality: Option<SeasonalityCfg>,
+    /// Derive the conversion rate and order value (or the value per click)
+    /// from the last 12 months of the history instead of the keys above.
+    pub from_history: Option<bool>,
 }
 
 /// `[target]`: what the business wants over the horizon.
@@ -749,8 +758,9 @@ impl Plan {
         let file = self.path.display().to_string();
         let has_rate =
             e.conversion_rate.is_some() || (e.conversions.is_some() && e.sessions.is_some());
-        if e.value_per_click.is_none() && (!has_rate || e.order_value.is_none()) {
-            issues.add(&file, None, Some(("economics", 0)), "[economics] needs a conversion rate (conversion_rate, or conversions and sessions) and an order_value, or a value_per_click");
+        let from_history = e.from_history == Some(true);
+        if !from_history && e.value_per_click.is_none() && (!has_rate || e.order_value.is_none()) {
+            issues.add(&file, None, Some(("economics", 0)), "[economics] needs a conversion rate (conversion_rate, or conversions and sessions) and an order_value, or a value_per_click, or from_history = true");
         }
         if let Some(SeasonalityCfg::Indices(v)) = &e.seasonality {
             if v.len() != 12 || v.iter().any(|x| !x.is_finite() || *x <= 0.0) {

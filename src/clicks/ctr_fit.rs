@@ -147,6 +147,31 @@ pub struct CtrFit {
     pub chosen: FitKind,
     pub choice_reason: String,
     pub curve: CtrCurve,
+    /// The fallback curve's impression-weighted RMSE of CTR over the same
+    /// interior bins the cross-validation holds out (3+ bins). The fallback
+    /// has no parameters fitted to these data, so this error is already an
+    /// out-of-sample one and compares fairly with the fits' `cv_rmse`.
+    pub fallback_rmse: Option<f64>,
+}
+
+impl CtrFit {
+    /// The chosen fit's cross-validated RMSE.
+    pub fn chosen_cv_rmse(&self) -> Option<f64> {
+        match self.chosen {
+            FitKind::Isotonic => self.isotonic.cv_rmse,
+            FitKind::PowerLaw => self.power_law.as_ref().and_then(|p| p.cv_rmse),
+        }
+    }
+
+    /// Whether the fitted curve predicts held-out bins better than the
+    /// fallback curve does. False when either error is unknown (fewer than 3
+    /// well-observed bins: too little to show the fit is better).
+    pub fn beats_fallback(&self) -> bool {
+        match (self.chosen_cv_rmse(), self.fallback_rmse) {
+            (Some(fit), Some(fallback)) => fit < fallback,
+            _ => false,
+        }
+    }
 }
 
 /// Builds the case-insensitive brand pattern `fit` expects.
@@ -401,6 +426,7 @@ fn assemble(
     let model = Model::new(chosen, &isotonic, power_law.as_ref(), obs);
     let curve = output_curve(&model, obs, fallback, chosen)?;
     let bins = describe_bins(accums, opts, &isotonic, power_law.as_ref());
+    let fallback_rmse = interior_rmse(obs, |x| fallback.ctr(x));
     Ok(CtrFit {
         rows,
         branded_excluded: tally.branded,
@@ -415,7 +441,20 @@ fn assemble(
         chosen,
         choice_reason,
         curve,
+        fallback_rmse,
     })
+}
+
+/// Impression-weighted RMSE of a fixed curve over the interior bins, the
+/// bins [`cross_validate`] holds out. None with fewer than 3 bins.
+fn interior_rmse(obs: &[Obs], curve: impl Fn(f64) -> f64) -> Option<f64> {
+    if obs.len() < 3 {
+        return None;
+    }
+    let inner = &obs[1..obs.len() - 1];
+    let sw: f64 = inner.iter().map(|o| o.w).sum();
+    let sse: f64 = inner.iter().map(|o| o.w * (o.y - curve(o.x)).powi(2)).sum();
+    Some((sse / sw).sqrt())
 }
 
 /// Isotonic fit with its errors.

@@ -267,6 +267,40 @@ impl Economics {
         })
     }
 
+    /// Economics derived from a history's totals (the plan's
+    /// `[economics] from_history = true`): with conversions, sessions and
+    /// revenue, the conversion rate is conversions over sessions (as counts,
+    /// so its uncertainty follows them) and the order value revenue over
+    /// conversions, one click counted as one session; with revenue but no
+    /// usable conversions, a value per click of revenue over clicks.
+    pub fn from_history(
+        clicks: f64,
+        sessions: Option<f64>,
+        conversions: Option<f64>,
+        revenue: f64,
+        order_value_spread: Option<f64>,
+        margin: f64,
+    ) -> Result<Economics, ClicksError> {
+        match (conversions, sessions) {
+            (Some(c), Some(s)) if c > 0.0 && s >= c => Economics::new(
+                ConversionRate::from_counts(c, s)?,
+                OrderValue::new(revenue / c, order_value_spread)?,
+                margin,
+            ),
+            _ => {
+                if clicks.is_nan() || clicks <= 0.0 {
+                    return Err(invalid(
+                        "economics",
+                        "from_history",
+                        clicks,
+                        "a history with clicks in its last 12 months",
+                    ));
+                }
+                Economics::value_per_click(revenue / clicks, margin)
+            }
+        }
+    }
+
     /// Money of `clicks` at the mean conversion rate and order value.
     pub fn money_at_means(&self, clicks: f64) -> Money {
         monthly_money(

@@ -18,6 +18,7 @@ pub fn assumptions(sm: &Summary) -> String {
         .map(|(what, origin)| vec![what.clone(), origin.clone()])
         .collect();
     let mut s = table("Model files used", &["model", "origin"], &models);
+    s += &click_through_facts(sm);
     s += &baseline_facts(sm);
     s += &economics_facts(sm);
     s += &risk_facts(sm);
@@ -55,6 +56,36 @@ fn parameter_rows(params: &BTreeMap<String, f64>) -> Vec<Vec<String>> {
         rows.push(vec![format!("{f}_{first} to {f}_{last}"), list.join(", ")]);
     }
     rows
+}
+
+/// The click-through curve fitted to the plan's query export, or why the
+/// named curve was kept, with the errors that decided it.
+fn click_through_facts(sm: &Summary) -> String {
+    let Some(c) = &sm.click_through else {
+        return String::new();
+    };
+    let err = |x: Option<f64>| x.map_or_else(|| "n/a".to_string(), |v| pct(v, 2));
+    let key = [
+        kv(
+            "curve used",
+            if c.fitted {
+                "fitted to the query export".to_string()
+            } else {
+                "the named curve".to_string()
+            },
+        ),
+        kv("query export", c.queries.clone()),
+        kv("fit", c.fit.clone().unwrap_or_else(|| "none".into())),
+        kv("fit error (cross-validated RMSE)", err(c.fit_cv_rmse)),
+        kv(
+            "named curve's error (same positions)",
+            err(c.named_curve_rmse),
+        ),
+        kv("CTR at position 1", pct(c.ctr_at_1, 1)),
+    ];
+    "<h3>Click-through curve</h3>\n".to_string()
+        + &figures_list(&key)
+        + &para(&format!("{}.", c.reason))
 }
 
 fn baseline_facts(sm: &Summary) -> String {
@@ -110,13 +141,38 @@ fn economics_facts(sm: &Summary) -> String {
         None => money(e.order_value.mean, cur),
     };
     let per_click = format!("{cur} {}", number(rate * e.order_value.mean, 2));
-    let key = [
+    let mut key = vec![
         kv("conversion rate", conv),
         kv("average order value", ov),
         kv("gross margin", pct(e.margin, 0)),
         kv("revenue per click (at the means)", per_click),
     ];
-    "<h3>Economics</h3>\n".to_string() + &figures_list(&key)
+    let history = sm.check.revenue_per_click.map(|r| {
+        let text = format!(
+            "{cur} {} (last {} months; the plan's is {} {})",
+            number(r.history, 2),
+            r.months,
+            pct(r.difference.abs(), 0),
+            if r.difference >= 0.0 {
+                "higher"
+            } else {
+                "lower"
+            }
+        );
+        (r, text)
+    });
+    if let Some((_, text)) = &history {
+        key.push(kv("revenue per click in the history", text.clone()));
+    }
+    let mut s = "<h3>Economics</h3>\n".to_string() + &figures_list(&key);
+    if let Some((r, _)) = history.filter(|(r, _)| r.differs()) {
+        s += &para(&format!(
+            "The plan's revenue per click differs from the history's by more than {}: {}.",
+            pct(r.tolerance, 0),
+            r.warning(cur)
+        ));
+    }
+    s
 }
 
 fn risk_facts(sm: &Summary) -> String {

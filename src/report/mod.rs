@@ -127,6 +127,8 @@ pub struct Summary {
     pub history: Vec<(String, f64)>,
     /// Conversion, order value and margin used.
     pub economics: crate::clicks::Economics,
+    /// How the click-through curve was chosen from the plan's query export.
+    pub click_through: Option<crate::simulate::model::CtrChoice>,
     /// The chosen allocation's net return over the futures, binned.
     pub return_distribution: histogram::Histogram,
 }
@@ -396,6 +398,7 @@ pub fn run(inputs: Inputs, opts: &ReportOptions) -> Result<ReportOutput> {
         },
         history: history(&s.inputs),
         economics: s.model.economics,
+        click_through: s.model.ctr_choice.clone(),
         return_distribution: histogram::histogram(&a.net, HISTOGRAM_BINS),
     };
     write_folder(&dir, &summary, &protected)?;

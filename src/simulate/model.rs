@@ -101,6 +101,31 @@ pub struct Model {
     pub economics: Economics,
     /// Where each model came from.
     pub origins: Vec<(String, String)>,
+    /// How the non-branded click-through curve was chosen when the plan
+    /// gives a query export (fitted, or the named curve kept, and why).
+    pub ctr_choice: Option<CtrChoice>,
+}
+
+/// The outcome of fitting the plan's query export: which curve is used and
+/// the errors that decided it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct CtrChoice {
+    /// The query export.
+    pub queries: String,
+    /// True when the fitted curve is used, false when the named one is kept.
+    pub fitted: bool,
+    /// The curve used, in words.
+    pub curve: String,
+    /// `isotonic` or `power-law` (none when the fit failed).
+    pub fit: Option<String>,
+    /// The fit's leave-one-bin-out RMSE of CTR.
+    pub fit_cv_rmse: Option<f64>,
+    /// The named curve's RMSE of CTR over the same held-out bins.
+    pub named_curve_rmse: Option<f64>,
+    /// CTR at position 1 of the curve used.
+    pub ctr_at_1: f64,
+    /// Why this curve.
+    pub reason: String,
 }
 
 impl Model {
@@ -165,7 +190,117 @@ fn plan_err<'a>(
 }
 
 /// The model files a plan names, parsed, with where each came from.
-type LoadedModels = (CtrCurve, CtrCurve, RankGainModel, Vec<(String, String)>);
+type LoadedModels = (
+    CtrCurve,
+    CtrCurve,
+    RankGainModel,
+    Vec<(String, String)>,
+    Option<CtrChoice>,
+);
+
+/// Fits the site's click-through curve to the plan's query export, as
+/// `furrow ctr fit` does, with the named curve as the fallback: positions
+/// whose bin has fewer than 100 impressions follow the named curve's shape
+/// (scaled to meet the fit), and the named curve is kept whole when its
+/// error over the held-out bins is not larger than the fit's
+/// cross-validated error, or when the fit cannot be made.
+fn fit_queries(
+    inputs: &Inputs,
+    named: &CtrCurve,
+    named_origin: &str,
+) -> Result<Option<(CtrCurve, CtrChoice)>> {
+    use crate::clicks::ctr_fit;
+    let m = &inputs.plan.file.models;
+    let Some(rows) = &inputs.queries else {
+        return Ok(None);
+    };
+    if m.fit_ctr == Some(false) {
+        return Ok(None);
+    }
+    let plan_file = inputs.plan.path.display().to_string();
+    let brand = m
+        .brand
+        .as_deref()
+        .map(ctr_fit::brand_regex)
+        .transpose()
+        .map_err(|e| {
+            let text = e.to_string();
+            let text = text.strip_prefix("--brand: ").unwrap_or(&text).to_string();
+            Error::input(&plan_file, None, Some(("models.brand", 0)), &text)
+        })?;
+    let queries = inputs
+        .files
+        .iter()
+        .find(|(label, _)| label == "queries")
+        .map(|(_, p)| p.display().to_string())
+        .or_else(|| inputs.plan.file.inputs.queries.clone())
+        .unwrap_or_else(|| "the query export".to_string());
+    let rows: Vec<ctr_fit::QueryRow> = rows
+        .iter()
+        .map(|r| ctr_fit::QueryRow {
+            query: r.query.clone(),
+            clicks: r.clicks,
+            impressions: r.impressions,
+            position: r.position,
+        })
+        .collect();
+    let kept = |reason: String, fit: Option<&ctr_fit::CtrFit>| CtrChoice {
+        queries: queries.clone(),
+        fitted: false,
+        curve: named_origin.to_string(),
+        fit: fit.map(|f| kind_name(f.chosen).to_string()),
+        fit_cv_rmse: fit.and_then(ctr_fit::CtrFit::chosen_cv_rmse),
+        named_curve_rmse: fit.and_then(|f| f.fallback_rmse),
+        ctr_at_1: named.ctr(1.0),
+        reason,
+    };
+    let fit = match ctr_fit::fit(&rows, brand.as_ref(), named, &Default::default()) {
+        Ok(f) => f,
+        Err(e) => {
+            let reason = format!("named curve kept: the query export could not be fitted ({e})");
+            return Ok(Some((named.clone(), kept(reason, None))));
+        }
+    };
+    let pct = |x: Option<f64>| x.map_or("-".to_string(), |v| format!("{:.2} %", v * 100.0));
+    if !fit.beats_fallback() {
+        let reason = match (fit.chosen_cv_rmse(), fit.fallback_rmse) {
+            (Some(_), Some(_)) => format!(
+                "named curve kept: cross-validation says the fit is not better (fit {} against {} for the named curve on the held-out positions)",
+                pct(fit.chosen_cv_rmse()),
+                pct(fit.fallback_rmse)
+            ),
+            _ => "named curve kept: fewer than 3 positions with 100 impressions or more, too few to show a fit is better".to_string(),
+        };
+        return Ok(Some((named.clone(), kept(reason, Some(&fit)))));
+    }
+    let kind = kind_name(fit.chosen);
+    let thin = fit.bins.iter().filter(|b| b.fallback).count();
+    let choice = CtrChoice {
+        queries: queries.clone(),
+        fitted: true,
+        curve: format!(
+            "fitted to {queries} ({kind}; {} queries, {} branded left out; positions with under 100 impressions follow {named_origin})",
+            fit.queries_used, fit.branded_excluded
+        ),
+        fit: Some(kind.to_string()),
+        fit_cv_rmse: fit.chosen_cv_rmse(),
+        named_curve_rmse: fit.fallback_rmse,
+        ctr_at_1: fit.curve.ctr(1.0),
+        reason: format!(
+            "fitted curve used: cross-validated RMSE {} against {} for the named curve on the held-out positions; {thin} thin position bins follow the named curve's shape",
+            pct(fit.chosen_cv_rmse()),
+            pct(fit.fallback_rmse)
+        ),
+    };
+    Ok(Some((fit.curve, choice)))
+}
+
+fn kind_name(k: crate::clicks::ctr_fit::FitKind) -> &'static str {
+    match k {
+        crate::clicks::ctr_fit::FitKind::Isotonic => "isotonic",
+        crate::clicks::ctr_fit::FitKind::PowerLaw => "power-law",
+    }
+}
 
 /// Loads the model files the plan names.
 fn load_models(inputs: &Inputs) -> Result<LoadedModels> {
@@ -184,12 +319,20 @@ fn load_models(inputs: &Inputs) -> Result<LoadedModels> {
     let ctr = CtrCurve::from_toml_str(&ctr_t.text, &ctr_t.origin).map_err(model_err)?;
     let branded = CtrCurve::from_toml_str(&br_t.text, &br_t.origin).map_err(model_err)?;
     let rank = RankGainModel::from_toml_str(&rg_t.text, &rg_t.origin).map_err(model_err)?;
+    let (ctr, choice) = match fit_queries(inputs, &ctr, &ctr_t.origin)? {
+        Some((curve, choice)) => (curve, Some(choice)),
+        None => (ctr, None),
+    };
+    let ctr_origin = match &choice {
+        Some(c) if c.fitted => c.curve.clone(),
+        _ => ctr_t.origin,
+    };
     let origins = vec![
-        ("click-through curve".into(), ctr_t.origin),
+        ("click-through curve".into(), ctr_origin),
         ("branded click-through curve".into(), br_t.origin),
         ("rank-gain model".into(), rg_t.origin),
     ];
-    Ok((ctr, branded, rank, origins))
+    Ok((ctr, branded, rank, origins, choice))
 }
 
 /// The plan's economics as a typed model.
@@ -198,6 +341,9 @@ pub fn economics(inputs: &Inputs) -> Result<Economics> {
     let plan_file = inputs.plan.path.display().to_string();
     let v = |x: &Option<toml::Spanned<f64>>| x.as_ref().map(|s| *s.get_ref());
     let margin = v(&e.gross_margin).unwrap_or(1.0);
+    if e.from_history == Some(true) {
+        return economics_from_history(inputs, margin, v(&e.order_value_spread));
+    }
     let built = if let Some(vpc) = v(&e.value_per_click) {
         Economics::value_per_click(vpc, margin)
     } else {
@@ -217,6 +363,66 @@ pub fn economics(inputs: &Inputs) -> Result<Economics> {
             .and_then(|ov| Economics::new(rate, ov, margin))
     };
     built.map_err(plan_err(&plan_file, "economics"))
+}
+
+/// `[economics] from_history = true`: the conversion rate and order value
+/// (or the value per click) from the history's last 12 months; see
+/// [`Economics::from_history`]. The keys it replaces must not be given too.
+fn economics_from_history(inputs: &Inputs, margin: f64, spread: Option<f64>) -> Result<Economics> {
+    let e = &inputs.plan.file.economics;
+    let plan_file = inputs.plan.path.display().to_string();
+    let given: Vec<&str> = [
+        ("conversion_rate", e.conversion_rate.is_some()),
+        ("conversions", e.conversions.is_some()),
+        ("sessions", e.sessions.is_some()),
+        ("order_value", e.order_value.is_some()),
+        ("value_per_click", e.value_per_click.is_some()),
+    ]
+    .iter()
+    .filter(|k| k.1)
+    .map(|k| k.0)
+    .collect();
+    if !given.is_empty() {
+        return Err(Error::input(
+            &plan_file,
+            None,
+            Some(("economics.from_history", 0)),
+            &format!(
+                "from_history = true derives the economics from the history; remove {} from [economics] or set from_history = false",
+                given.join(", ")
+            ),
+        ));
+    }
+    let t = crate::check::history_totals(inputs);
+    let history = inputs
+        .files
+        .iter()
+        .find(|(label, _)| label == "history")
+        .map(|(_, p)| p.display().to_string())
+        .unwrap_or_else(|| "the history".to_string());
+    if t.months < 12 {
+        return Err(Error::input(
+            &plan_file,
+            None,
+            Some(("economics.from_history", 0)),
+            &format!(
+                "from_history = true needs 12 months of history, {history} has {}",
+                t.months
+            ),
+        ));
+    }
+    let Some(revenue) = t.revenue else {
+        return Err(Error::input(
+            &plan_file,
+            None,
+            Some(("economics.from_history", 0)),
+            &format!(
+                "from_history = true needs a revenue column with a value in each of the last 12 months of {history}"
+            ),
+        ));
+    };
+    Economics::from_history(t.clicks, t.sessions, t.conversions, revenue, spread, margin)
+        .map_err(plan_err(&plan_file, "economics.from_history"))
 }
 
 fn seasonality(inputs: &Inputs) -> Result<Seasonality> {
@@ -317,7 +523,7 @@ fn cluster_model(
 
 /// Prepares the model for a loaded plan.
 pub fn prepare(inputs: &Inputs) -> Result<Model> {
-    let (ctr, ctr_branded, rank, origins) = load_models(inputs)?;
+    let (ctr, ctr_branded, rank, origins, ctr_choice) = load_models(inputs)?;
     let economics = economics(inputs)?;
     let seasonality = seasonality(inputs)?;
     let months: Vec<Month> = (0..inputs.plan.horizon as i32)
@@ -349,5 +555,6 @@ pub fn prepare(inputs: &Inputs) -> Result<Model> {
         rank,
         economics,
         origins,
+        ctr_choice,
     })
 }

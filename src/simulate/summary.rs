@@ -209,7 +209,7 @@ impl crate::output::Render for SimSummary {
         use crate::text::{int, money, pct, ratio, table, Align::*};
         let cur = &self.currency;
         let mut out = format!(
-            "Monte Carlo: {} futures (seed {}), {} months from {}. Each row is what the tier adds over the tier below.\n\n",
+            "Monte Carlo: {} futures (seed {}), {} months from {}. Each row is what the tier adds over the tier below; \"mean\" is the mean over futures, which can differ from the median case (every factor at its median) that `estimate` shows beside it.\n\n",
             int(self.scenarios as f64), self.seed, self.horizon, self.first_month
         );
         let mut rows: Vec<Vec<String>> = self
