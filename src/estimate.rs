@@ -268,17 +268,19 @@ impl crate::output::Render for Estimate {
                     r.cluster.clone(),
                     r.tier.to_string(),
                     r.label.clone(),
-                    money(m.cost, cur),
+                    int(m.cost),
                     int(m.clicks),
-                    money(m.revenue, cur),
-                    money(m.net_return, cur),
+                    int(m.net_return),
                     r.mean_over_futures
-                        .map_or_else(|| "-".to_string(), |f| money(f.net_return, cur)),
+                        .map_or_else(|| "-".to_string(), |f| int(f.net_return)),
                     ratio(m.roi),
                     ratio(r.cumulative.roi),
                 ]
             })
             .collect();
+        // Money without the currency in the cells (it is named above the
+        // table), so the table keeps within 100 columns.
+        out += &format!("Amounts in {cur}.\n");
         out += &table(
             &[
                 "cluster",
@@ -286,18 +288,15 @@ impl crate::output::Render for Estimate {
                 "label",
                 "cost",
                 "clicks",
-                "revenue",
-                "net, median case",
-                "net, mean over futures",
+                "median net",
+                "mean net",
                 "ROI",
-                "ROI to this tier",
+                "ROI to tier",
             ],
-            &[
-                Left, Right, Left, Right, Right, Right, Right, Right, Right, Right,
-            ],
+            &[Left, Right, Left, Right, Right, Right, Right, Right, Right],
             &rows,
         );
-        out += "\nEach row is what the tier adds over the tier below, over the horizon; clicks, revenue and ROI are the median case (gross profit and return on spend are in the CSV and JSON). ROI = (incremental gross profit - cost) / cost.\nThe median case sets every factor at its median; the mean over futures averages skewed futures (most keywords gain little, a few gain a lot), so the two can differ, even in sign.\n";
+        out += "\nEach row is what the tier adds over the tier below, over the horizon; clicks, median net and ROI are the median case (revenue, gross profit and return on spend are in the CSV and JSON). Net = incremental gross profit - cost; ROI = net / cost; ROI to tier counts the tiers below too.\nThe median case sets every factor at its median; the mean net averages skewed futures (most keywords gain little, a few gain a lot), so the two can differ, even in sign.\n";
         out
     }
 

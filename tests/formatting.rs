@@ -85,11 +85,11 @@ fn widest(text: &str) -> usize {
 
 #[test]
 fn the_frontier_table_keeps_within_100_columns() {
-    let (_t, dir) = project();
-    let o = furrow(
-        &dir,
-        &["frontier", "plan.toml", "--scenarios", "300", "--quiet"],
-    );
+    // The demo: its frontier has all eleven points (the init project's
+    // futures all gain, so its frontier is a single point).
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+    let plan = root.join("demo-data/plan.toml").display().to_string();
+    let o = furrow(root, &["frontier", &plan, "--scenarios", "300", "--quiet"]);
     assert!(o.status.success(), "{}", stderr(&o));
     let text = stdout(&o);
     assert!(widest(&text) <= 100, "{} columns:\n{text}", widest(&text));
@@ -109,4 +109,34 @@ fn a_history_too_short_names_its_file() {
     let o = furrow(&dir, &["baseline", "--history", "short.csv"]);
     assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
     assert!(stderr(&o).contains("short.csv"), "{}", stderr(&o));
+}
+
+/// The widest table rule (a line of dashes) of a command's terminal output.
+fn widest_table(text: &str) -> usize {
+    text.lines()
+        .filter(|l| l.len() >= 10 && l.chars().all(|c| c == '-'))
+        .map(|l| l.chars().count())
+        .max()
+        .unwrap_or(0)
+}
+
+#[test]
+fn estimate_and_simulate_tables_keep_within_100_columns_on_the_demo() {
+    let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/plan.toml");
+    let plan = demo.display().to_string();
+    for args in [
+        vec!["estimate", &plan, "--scenarios", "200"],
+        vec!["simulate", &plan, "--scenarios", "200", "--quiet"],
+    ] {
+        let o = furrow(std::path::Path::new(env!("CARGO_MANIFEST_DIR")), &args);
+        assert!(o.status.success(), "{}", stderr(&o));
+        let text = stdout(&o);
+        let w = widest_table(&text);
+        assert!(
+            w > 0 && w <= 100,
+            "{}: table {w} columns wide:\n{text}",
+            args[0]
+        );
+        assert!(text.contains("Amounts in EUR."), "{text}");
+    }
 }

@@ -206,7 +206,7 @@ fn stat_cols(s: &Stats) -> [String; 4] {
 
 impl crate::output::Render for SimSummary {
     fn table(&self) -> String {
-        use crate::text::{int, money, pct, ratio, table, Align::*};
+        use crate::text::{int, pct, ratio, table, Align::*};
         let cur = &self.currency;
         let mut out = format!(
             "Monte Carlo: {} futures (seed {}), {} months from {}. Each row is what the tier adds over the tier below; \"mean\" is the mean over futures, which can differ from the median case (every factor at its median) that `estimate` shows beside it.\n\n",
@@ -219,14 +219,12 @@ impl crate::output::Render for SimSummary {
                 let m = &r.marginal;
                 vec![
                     r.id.clone(),
-                    money(m.cost, cur),
+                    int(m.cost),
                     int(m.clicks.mean),
-                    int(m.clicks.p10),
-                    int(m.clicks.p90),
-                    money(m.revenue.mean, cur),
-                    money(m.net_return.mean, cur),
-                    money(m.net_return.p10, cur),
-                    money(m.net_return.p90, cur),
+                    int(m.revenue.mean),
+                    int(m.net_return.mean),
+                    int(m.net_return.p10),
+                    int(m.net_return.p90),
                     ratio(m.roi),
                     pct(m.chance_of_loss, 0),
                 ]
@@ -235,37 +233,35 @@ impl crate::output::Render for SimSummary {
         let p = &self.first_tiers;
         rows.push(vec![
             "all first tiers".into(),
-            money(p.cost, cur),
+            int(p.cost),
             int(p.clicks.mean),
-            int(p.clicks.p10),
-            int(p.clicks.p90),
-            money(p.revenue.mean, cur),
-            money(p.net_return.mean, cur),
-            money(p.net_return.p10, cur),
-            money(p.net_return.p90, cur),
+            int(p.revenue.mean),
+            int(p.net_return.mean),
+            int(p.net_return.p10),
+            int(p.net_return.p90),
             ratio(p.roi),
             pct(p.chance_of_loss, 0),
         ]);
+        // Money without the currency in the cells, and the clicks' P10 and
+        // P90 left to the CSV and JSON, so the table keeps within 100
+        // columns.
+        out += &format!("Amounts in {cur}.\n");
         out += &table(
             &[
                 "cluster/tier",
                 "cost",
-                "clicks mean",
-                "clicks P10",
-                "clicks P90",
-                "revenue mean",
+                "clicks",
+                "revenue",
                 "net mean",
                 "net P10",
                 "net P90",
                 "ROI",
-                "chance of loss",
+                "loss chance",
             ],
-            &[
-                Left, Right, Right, Right, Right, Right, Right, Right, Right, Right, Right,
-            ],
+            &[Left, Right, Right, Right, Right, Right, Right, Right, Right],
             &rows,
         );
-        out += "\nNet return = incremental gross profit - cost. ROI = (mean incremental gross profit - cost) / cost.\n";
+        out += "\nClicks, revenue and net mean are means over the futures; net return = incremental gross profit - cost; ROI = (mean incremental gross profit - cost) / cost; loss chance = share of futures with a negative net return. The clicks' P10 and P90 are in the CSV and JSON.\n";
         out
     }
 
