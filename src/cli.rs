@@ -325,6 +325,9 @@ enum Command {
         /// Seed of the simulation (default: the plan's).
         #[arg(long)]
         seed: Option<u64>,
+        /// Months to forecast (overrides the plan).
+        #[arg(long)]
+        horizon: Option<usize>,
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
     },
@@ -651,6 +654,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             plan,
             scenarios,
             seed,
+            horizon,
             format,
         } => {
             let futures = scenarios.unwrap_or(furrow::estimate::DEFAULT_FUTURES);
@@ -659,6 +663,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             let o = Overrides {
                 seed,
                 scenarios: (futures > 0).then_some(futures),
+                horizon,
                 ..Overrides::default()
             };
             let inputs = furrow::inputs::load::load(&plan, &o)?;

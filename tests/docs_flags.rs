@@ -176,6 +176,24 @@ fn horizon_on_the_command_line_overrides_the_plan() {
         "{}",
         &v.to_string()[..200.min(v.to_string().len())]
     );
+    let e = json(&furrow(
+        &dir,
+        &[
+            "estimate",
+            "plan.toml",
+            "--horizon",
+            "5",
+            "--scenarios",
+            "0",
+            "--format",
+            "json",
+        ],
+    ));
+    assert_eq!(
+        e["months"].as_array().map(Vec::len),
+        Some(5),
+        "estimate --horizon"
+    );
     let o = furrow(
         &dir,
         &["allocate", "plan.toml", "--horizon", "0", "--quiet"],
