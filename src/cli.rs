@@ -156,16 +156,27 @@ fn solve_options(method: LpMethod, whole_tiers: bool) -> furrow::allocate::Solve
     }
 }
 
+/// How `allocate --returns/--costs` reads its files: `--map` for the costs
+/// file's headers, `--numbers` for a number format the cells cannot tell.
+struct FileReading<'a> {
+    map: &'a [String],
+    numbers: Option<&'a str>,
+}
+
 fn allocate_files(
     returns: &std::path::Path,
     costs: &std::path::Path,
+    reading: &FileReading,
     budget: f64,
     tail_level: Option<f64>,
     max_tail_loss: Option<&str>,
 ) -> Result<furrow::allocate::Problem> {
     use furrow::inputs::scenarios;
-    let r = scenarios::read_returns(returns)?;
-    let c = scenarios::read_costs(costs)?;
+    use furrow::inputs::table::{parse_map_flags, parse_numbers_flag, ReadSettings};
+    let map = parse_map_flags(reading.map, &[scenarios::COST_COLUMNS])?;
+    let settings = ReadSettings::flags(&map, parse_numbers_flag(reading.numbers)?);
+    let r = scenarios::read_returns_with(returns, &settings)?;
+    let c = scenarios::read_costs_with(costs, &settings)?;
     let c = scenarios::match_ids(&r, &c, &costs.display().to_string())?;
     if !(budget.is_finite() && budget > 0.0) {
         return Err(furrow::Error::Setting(format!(
@@ -372,6 +383,12 @@ enum Command {
         /// Costs: id, cost [, max_fraction, requires, min_fraction].
         #[arg(long, requires = "returns")]
         costs: Option<PathBuf>,
+        /// Map a column of the costs file to the header it uses: --map cost="Budget" (repeatable).
+        #[arg(long = "map", value_name = "NAME=HEADER", requires = "costs")]
+        map: Vec<String>,
+        /// How the files write 1234.5 ("1,234.5" or "1.234,5"), when their numbers cannot tell.
+        #[arg(long, value_name = "FORMAT", requires = "costs")]
+        numbers: Option<String>,
         /// Total budget (overrides the plan; required with --returns).
         #[arg(long)]
         budget: Option<f64>,
@@ -748,6 +765,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             plan,
             returns,
             costs,
+            map,
+            numbers,
             budget,
             tail_level,
             max_tail_loss,
@@ -765,7 +784,17 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                         )
                     })?;
                     (
-                        allocate_files(&r, &c, b, tail_level, max_tail_loss.as_deref())?,
+                        allocate_files(
+                            &r,
+                            &c,
+                            &FileReading {
+                                map: &map,
+                                numbers: numbers.as_deref(),
+                            },
+                            b,
+                            tail_level,
+                            max_tail_loss.as_deref(),
+                        )?,
                         String::new(),
                     )
                 }

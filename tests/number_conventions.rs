@@ -452,6 +452,52 @@ fn allocate_costs_message_points_to_no_plan_table() {
     let o = furrow(&dir, &args);
     let err = stderr(&o);
     assert_eq!(o.status.code(), Some(1), "{err}");
-    assert!(err.contains("Rename the column to 'cost'"), "{err}");
+    assert!(err.contains("--map cost="), "{err}");
     assert!(!err.contains("[inputs.columns"), "{err}");
+}
+
+#[test]
+fn allocate_from_files_honours_map_and_numbers_flags() {
+    let (_t, dir) = project();
+    // A decimal-comma export whose cells cannot tell (every cost and
+    // return has exactly three digits after the mark), with its own header.
+    write(
+        &dir,
+        "returns.csv",
+        b"a;b
+10,500;20,250
+-5,125;3,750
+",
+    );
+    write(
+        &dir,
+        "costs.csv",
+        b"id;price
+a;10,000
+b;10,000
+",
+    );
+    let base = [
+        "allocate",
+        "--returns",
+        "returns.csv",
+        "--costs",
+        "costs.csv",
+        "--budget",
+        "15",
+        "--format",
+        "json",
+    ];
+    let refused = furrow(&dir, &base);
+    assert_eq!(refused.status.code(), Some(1), "{}", stderr(&refused));
+    let args = [&base[..], &["--map", "cost=price", "--numbers", "1.234,5"]].concat();
+    let v = json(&furrow(&dir, &args));
+    let spend: f64 = v["allocation"]
+        .as_array()
+        .expect("an allocation")
+        .iter()
+        .map(|i| i["spend"].as_f64().unwrap_or(0.0))
+        .sum();
+    // Costs of 10 each (not 10,000) under a budget of 15: at most 15 spent.
+    assert!(spend > 0.0 && spend <= 15.0 + 1e-6, "{v}");
 }

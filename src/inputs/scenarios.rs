@@ -54,8 +54,13 @@ pub struct CostRow {
 /// Reads the returns file (its number convention found from its cells).
 pub fn read_returns(path: &Path) -> Result<Returns> {
     let none = BTreeMap::new();
-    let settings = ReadSettings::bare(&none);
-    table::twice(&settings, |conv| returns_once(path, &settings, conv)).map(|r| r.0)
+    read_returns_with(path, &ReadSettings::bare(&none))
+}
+
+/// Reads the returns file with the settings of the command line (a
+/// declared number format; its header is the ids, so nothing is mapped).
+pub fn read_returns_with(path: &Path, settings: &ReadSettings) -> Result<Returns> {
+    table::twice(settings, |conv| returns_once(path, settings, conv)).map(|r| r.0)
 }
 
 fn returns_once(path: &Path, settings: &ReadSettings, conv: Convention) -> Result<Pass<Returns>> {
@@ -134,8 +139,13 @@ pub const COST_COLUMNS: &[ColumnSpec] = &[
 /// Reads the costs file (its number convention found from its cells).
 pub fn read_costs(path: &Path) -> Result<Vec<CostRow>> {
     let none = BTreeMap::new();
-    let settings = ReadSettings::bare(&none);
-    table::twice(&settings, |conv| costs_once(path, &settings, conv)).map(|r| r.0)
+    read_costs_with(path, &ReadSettings::bare(&none))
+}
+
+/// Reads the costs file with the settings of the command line (`--map`
+/// for its headers, a declared number format).
+pub fn read_costs_with(path: &Path, settings: &ReadSettings) -> Result<Vec<CostRow>> {
+    table::twice(settings, |conv| costs_once(path, settings, conv)).map(|r| r.0)
 }
 
 fn costs_once(
