@@ -221,7 +221,7 @@ fn actuals_at_the_prior_median_keep_the_reforecast_median_within_1_percent() {
     // every later month within 1 % of the prior median (measured on the demo: at most 0.2 %). (It is not exact:
     // each future's increments are taken out of the same actuals, so the
     // updated baselines are those of a median start, and the re-forecast
-    // narrows.)
+    // narrows on the whole, month by month within Monte Carlo error.)
     for seed in [5u64, 2027] {
         let (s, chosen) = demo(1000, seed);
         let med = prior_medians(&s, &chosen, 4);
@@ -235,12 +235,26 @@ fn actuals_at_the_prior_median_keep_the_reforecast_median_within_1_percent() {
                 m.p50,
                 m.prior_p50
             );
+            // No month's band widens beyond the Monte Carlo error of a
+            // P10 or P90 of 1,000 futures (about 1 to 2 %).
             assert!(
-                m.p90 - m.p10 <= m.prior_p90 - m.prior_p10,
-                "{} narrows",
-                m.month
+                m.p90 - m.p10 <= 1.03 * (m.prior_p90 - m.prior_p10),
+                "{} widens: {} .. {} against the prior {} .. {}",
+                m.month,
+                m.p10,
+                m.p90,
+                m.prior_p10,
+                m.prior_p90
             );
         }
+        // Over the remaining months the band narrows: the months seen are
+        // no longer uncertain.
+        let width: f64 = r.reforecast.iter().map(|m| m.p90 - m.p10).sum();
+        let prior: f64 = r.reforecast.iter().map(|m| m.prior_p90 - m.prior_p10).sum();
+        assert!(
+            width <= prior,
+            "seed {seed}: total width {width} against the prior {prior}"
+        );
         assert!(r.observed.iter().all(|o| (o.percentile - 0.5).abs() < 0.02));
     }
 }
