@@ -454,6 +454,15 @@ enum Command {
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
     },
+    /// Print a completion script for SHELL (bash, zsh or fish) to stdout.
+    #[command(hide = true)]
+    Completions {
+        #[arg(value_enum)]
+        shell: crate::shell::Shell,
+    },
+    /// Print the manual page (roff, for man) to stdout.
+    #[command(hide = true)]
+    Manual,
     /// Write the invented demo business (plan and inputs) into DIR.
     #[command(hide = true)]
     DemoData {
@@ -531,6 +540,16 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
                 dir.display(),
                 dir.join("plan.toml").display()
             ))?;
+        }
+        Command::Completions { shell } => {
+            std::io::stdout()
+                .write_all(&crate::shell::completions(shell))
+                .context("cannot write to stdout")?;
+        }
+        Command::Manual => {
+            std::io::stdout()
+                .write_all(&crate::shell::manual()?)
+                .context("cannot write to stdout")?;
         }
         Command::DemoData {
             dir,

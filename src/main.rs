@@ -5,6 +5,7 @@
 
 mod cli;
 mod progress;
+mod shell;
 
 use clap::Parser;
 use std::process::ExitCode;
