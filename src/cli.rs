@@ -649,15 +649,6 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             let map = parse_map_flags(&map, &[furrow::inputs::queries::QUERY_COLUMNS])?;
             let settings = ReadSettings::flags(&map, parse_numbers_flag(numbers.as_deref())?);
             let (rows, _) = furrow::inputs::queries::read_with(&queries, &settings)?;
-            let rows: Vec<ctr_fit::QueryRow> = rows
-                .into_iter()
-                .map(|r| ctr_fit::QueryRow {
-                    query: r.query,
-                    clicks: r.clicks,
-                    impressions: r.impressions,
-                    position: r.position,
-                })
-                .collect();
             let brand = brand
                 .map(|b| ctr_fit::brand_regex(&b))
                 .transpose()

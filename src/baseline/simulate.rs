@@ -39,16 +39,9 @@ pub fn paths(model: &FittedModel, n_paths: usize, seed: u64, domain: u64) -> Vec
     paths_with(model, n_paths, |i| stream(seed, domain, i))
 }
 
-/// Definition-7 sample quantile of sorted data (Hyndman & Fan 1996).
-pub fn quantile_sorted(sorted: &[f64], p: f64) -> f64 {
-    if sorted.is_empty() {
-        return f64::NAN;
-    }
-    let h = (sorted.len() - 1) as f64 * p.clamp(0.0, 1.0);
-    let lo = h.floor() as usize;
-    let hi = (lo + 1).min(sorted.len() - 1);
-    sorted[lo] + (h - lo as f64) * (sorted[hi] - sorted[lo])
-}
+/// Definition-7 sample quantile of sorted data (Hyndman & Fan 1996): the
+/// one in [`crate::stats`], kept under this name for the baseline's callers.
+pub use crate::stats::quantile_sorted;
 
 /// Per-month percentiles of row-major paths: one Vec per requested level.
 pub fn percentiles(paths: &[f64], horizon: usize, levels: &[f64]) -> Vec<Vec<f64>> {

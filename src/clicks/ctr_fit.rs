@@ -44,15 +44,9 @@ use super::ClicksError;
 /// Positions binned one by one (1 to this).
 pub const HEAD_BINS: u32 = 20;
 
-/// One row of a query export.
-#[derive(Debug, Clone, PartialEq)]
-pub struct QueryRow {
-    pub query: String,
-    pub clicks: f64,
-    pub impressions: f64,
-    /// Average position (1 is the top).
-    pub position: f64,
-}
+/// One row of a query export: the row the query-export reader returns
+/// (defined once, in the inputs stage).
+pub use crate::inputs::queries::QueryRow;
 
 /// Settings of [`fit`].
 #[derive(Debug, Clone, PartialEq, Serialize)]

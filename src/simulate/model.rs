@@ -235,15 +235,6 @@ fn fit_queries(
         .map(|(_, p)| p.display().to_string())
         .or_else(|| inputs.plan.file.inputs.queries.clone())
         .unwrap_or_else(|| "the query export".to_string());
-    let rows: Vec<ctr_fit::QueryRow> = rows
-        .iter()
-        .map(|r| ctr_fit::QueryRow {
-            query: r.query.clone(),
-            clicks: r.clicks,
-            impressions: r.impressions,
-            position: r.position,
-        })
-        .collect();
     let kept = |reason: String, fit: Option<&ctr_fit::CtrFit>| CtrChoice {
         queries: queries.clone(),
         fitted: false,
@@ -254,7 +245,7 @@ fn fit_queries(
         ctr_at_1: named.ctr(1.0),
         reason,
     };
-    let fit = match ctr_fit::fit(&rows, brand.as_ref(), named, &Default::default()) {
+    let fit = match ctr_fit::fit(rows, brand.as_ref(), named, &Default::default()) {
         Ok(f) => f,
         Err(e) => {
             let reason = format!("named curve kept: the query export could not be fitted ({e})");
