@@ -6,24 +6,8 @@
 
 mod common;
 
-use common::{furrow, json, stderr};
+use common::{demo_copy, furrow, json, stderr};
 use std::path::Path;
-
-/// Copies the demo folder's plan and inputs into `dir`, with the plan text
-/// passed through `edit`.
-fn demo_copy(dir: &Path, edit: impl Fn(String) -> String) {
-    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
-    for f in ["history.csv", "interest.csv", "keywords.csv", "queries.csv"] {
-        std::fs::copy(src.join(f), dir.join(f)).expect("copy a demo file");
-    }
-    let plan = std::fs::read_to_string(src.join("plan.toml")).expect("demo plan");
-    let models = Path::new(env!("CARGO_MANIFEST_DIR")).join("models");
-    let plan = plan.replace(
-        "dir = \"../models\"",
-        &format!("dir = {:?}", models.display().to_string()),
-    );
-    std::fs::write(dir.join("plan.toml"), edit(plan)).expect("write the plan");
-}
 
 fn total_clicks(v: &serde_json::Value) -> f64 {
     v["rows"]

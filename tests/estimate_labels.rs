@@ -7,21 +7,10 @@
 mod common;
 
 use common::{furrow, json, stdout};
-use std::path::Path;
 
 fn demo_dir() -> tempfile::TempDir {
     let dir = tempfile::tempdir().expect("temp");
-    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
-    for f in ["history.csv", "interest.csv", "keywords.csv", "queries.csv"] {
-        std::fs::copy(src.join(f), dir.path().join(f)).expect("copy a demo file");
-    }
-    let plan = std::fs::read_to_string(src.join("plan.toml")).expect("demo plan");
-    let models = Path::new(env!("CARGO_MANIFEST_DIR")).join("models");
-    let plan = plan.replace(
-        "dir = \"../models\"",
-        &format!("dir = {:?}", models.display().to_string()),
-    );
-    std::fs::write(dir.path().join("plan.toml"), plan).expect("write the plan");
+    common::demo_copy(dir.path(), |plan| plan);
     dir
 }
 

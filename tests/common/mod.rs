@@ -45,3 +45,19 @@ pub fn json(o: &Output) -> serde_json::Value {
     assert!(o.status.success(), "{}", stderr(o));
     serde_json::from_slice(&o.stdout).expect("valid JSON")
 }
+
+/// Copies the committed demo's plan and inputs into `dir`, its models
+/// folder named by absolute path, with the plan text passed through `edit`.
+pub fn demo_copy(dir: &Path, edit: impl Fn(String) -> String) {
+    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+    for f in ["history.csv", "interest.csv", "keywords.csv", "queries.csv"] {
+        std::fs::copy(src.join(f), dir.join(f)).expect("copy a demo file");
+    }
+    let plan = std::fs::read_to_string(src.join("plan.toml")).expect("demo plan");
+    let models = Path::new(env!("CARGO_MANIFEST_DIR")).join("models");
+    let plan = plan.replace(
+        "dir = \"../models\"",
+        &format!("dir = {:?}", models.display().to_string()),
+    );
+    std::fs::write(dir.join("plan.toml"), edit(plan)).expect("write the plan");
+}
